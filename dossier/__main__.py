@@ -1,0 +1,5 @@
+import sys
+
+from dossier.cli import main
+
+sys.exit(main())

@@ -1,0 +1,65 @@
+"""Command line: parse arguments, call the API, map errors to one line and an exit code.
+
+Each subcommand lives in its own module under dossier/commands/ and defines
+``HELP`` (one line), ``add_arguments(parser)`` and ``run(args) -> int``.
+Modules are discovered, so adding a command touches no other file.
+"""
+from __future__ import annotations
+
+import argparse
+import importlib
+import pkgutil
+import sys
+
+from dossier import __version__, commands
+from dossier.errors import DossierError
+
+EXIT_OK = 0
+EXIT_FINDINGS = 1  # the command ran and found problems (check errors, verify failures)
+EXIT_ERROR = 2  # the command could not do its job (bad input, bad manifest)
+
+
+def _command_modules():
+    for info in sorted(pkgutil.iter_modules(commands.__path__), key=lambda m: m.name):
+        if not info.name.startswith("_"):
+            yield info.name, importlib.import_module(f"dossier.commands.{info.name}")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="dossier",
+        description="Turn an electron-transfer study's quantum-chemistry outputs into a checked dossier.",
+    )
+    parser.add_argument("--version", action="version", version=f"dossier {__version__}")
+    parser.add_argument("--debug", action="store_true", help="show a traceback on errors")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name, module in _command_modules():
+        p = sub.add_parser(name, help=module.HELP, description=module.HELP)
+        p.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help="show a traceback on errors")
+        module.add_arguments(p)
+        p.set_defaults(_run=module.run)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "_run", None):
+        parser.print_help(sys.stderr)
+        return EXIT_ERROR
+    try:
+        return int(args._run(args) or 0)
+    except DossierError as exc:
+        if args.debug:
+            raise
+        print(f"dossier: {exc}", file=sys.stderr)
+        return EXIT_ERROR
+    except KeyboardInterrupt:
+        print("dossier: interrupted; nothing half-written was left behind", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return EXIT_OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

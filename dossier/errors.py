@@ -1,0 +1,38 @@
+"""One exception family. The CLI turns each into one line: `<where>: <reason>`."""
+from __future__ import annotations
+
+
+class DossierError(Exception):
+    """Base of every error the tool reports to a user.
+
+    `where` names the file (and, for a manifest, the line) the problem is in;
+    `reason` says what is wrong and, where possible, what to do.
+    """
+
+    def __init__(self, reason: str, where: str | None = None):
+        super().__init__(reason)
+        self.reason = reason
+        self.where = where
+
+    def __str__(self) -> str:
+        return f"{self.where}: {self.reason}" if self.where else self.reason
+
+
+class ReadError(DossierError):
+    """An output file could not be read into a Calculation record."""
+
+
+class ManifestError(DossierError):
+    """The project manifest is malformed or refers to something that does not exist."""
+
+
+class CheckError(DossierError):
+    """`dossier check` found errors (used for the exit status, not for a crash)."""
+
+
+class BuildError(DossierError):
+    """The dossier could not be built or written."""
+
+
+class ArchiveError(DossierError):
+    """An archive could not be written, or failed verification."""

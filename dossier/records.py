@@ -1,0 +1,236 @@
+"""The Calculation record: one normalized description of one output file.
+
+Everything downstream of the reading layer works on these records only; nothing
+re-reads a log. Units are fixed here, whatever program wrote the file:
+
+- energies in hartree (``*_hartree``), excitation energies in eV and cm-1
+- lengths in angstrom, wavenumbers in cm-1 (imaginary modes as negative numbers)
+- IR intensities in km/mol, dipoles in debye, transition dipoles in atomic units (e bohr)
+- atom indices are 0-based in code; the manifest and the report use 1-based numbers
+
+Records round-trip through plain JSON (`to_dict` / `from_dict`) for the cache.
+"""
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from typing import Any
+
+#: Bump when the reading layer changes what it stores: stale cache entries are re-read.
+RECORD_SCHEMA_VERSION = 1
+
+ELEMENT_SYMBOLS = (
+    "X H He Li Be B C N O F Ne Na Mg Al Si P S Cl Ar K Ca Sc Ti V Cr Mn Fe Co Ni Cu Zn "
+    "Ga Ge As Se Br Kr Rb Sr Y Zr Nb Mo Tc Ru Rh Pd Ag Cd In Sn Sb Te I Xe Cs Ba La Ce Pr "
+    "Nd Pm Sm Eu Gd Tb Dy Ho Er Tm Yb Lu Hf Ta W Re Os Ir Pt Au Hg Tl Pb Bi Po At Rn"
+).split()
+
+#: Status words. Only "ok" means a complete, normally terminated, converged run.
+STATUS_WORDS = ("ok", "not-converged", "truncated", "failed", "unsupported", "unreadable")
+
+
+@dataclass(frozen=True)
+class Source:
+    path: str  # as given by the caller (relative paths stay relative)
+    sha256: str
+    size_bytes: int
+
+
+@dataclass
+class LevelOfTheory:
+    method: str | None = None  # family: "HF", "DFT", "MP2", "CCSD", "CCSD(T)", "GFN2-xTB", ...
+    functional: str | None = None  # e.g. "B3LYP", "BHLYP"; None for wavefunction methods
+    basis: str | None = None  # e.g. "6-31G*", "STO-3G"
+    dispersion: str | None = None  # e.g. "D3(BJ)"
+    solvation: str | None = None  # e.g. "COSMO (eps=35.7)"
+    unrestricted: bool | None = None
+
+    def label(self) -> str:
+        """Short human label, e.g. 'BHLYP/6-31G* COSMO (eps=35.7)'."""
+        head = self.functional or self.method or "unknown method"
+        text = f"{head}/{self.basis}" if self.basis else head
+        if self.dispersion:
+            text += f"-{self.dispersion}"
+        if self.solvation:
+            text += f" {self.solvation}"
+        return text
+
+
+@dataclass
+class RunStatus:
+    word: str = "ok"  # one of STATUS_WORDS
+    normal_termination: bool | None = None
+    scf_converged: bool | None = None
+    optimization_converged: bool | None = None  # None when the job was no optimisation
+    reason: str | None = None  # why the word is not "ok"
+
+
+@dataclass
+class Vibrations:
+    """Real normal modes only: translations and rotations removed (3N-6, or 3N-5 if linear)."""
+
+    wavenumbers_cm1: list[float]  # ascending; imaginary modes negative
+    displacements: list[list[list[float]]] | None = None  # per mode, N x 3, as printed
+    ir_intensities_km_mol: list[float] | None = None
+
+    @property
+    def n_imaginary(self) -> int:
+        return sum(1 for w in self.wavenumbers_cm1 if w < 0)
+
+
+@dataclass
+class ExcitedState:
+    energy_ev: float
+    energy_cm1: float
+    oscillator_strength: float | None = None
+    symmetry: str | None = None  # e.g. "Doublet-A", "Singlet-Bu"
+    transition_dipole_au: list[float] | None = None  # ground -> this state, e bohr
+    contributions: list[tuple[str, str, float]] = field(default_factory=list)  # (from, to, coef)
+
+
+@dataclass
+class PrintedThermo:
+    """Thermochemistry as the program printed it, normalized to totals in hartree.
+
+    Kept for comparison only: the project computes its own (dossier.thermo).
+    """
+
+    temperature_k: float | None = None
+    pressure_pa: float | None = None
+    zpe_hartree: float | None = None  # zero-point energy (correction)
+    enthalpy_hartree: float | None = None  # total H = E_el + thermal correction
+    gibbs_hartree: float | None = None  # total G
+    entropy_hartree_per_k: float | None = None
+
+
+@dataclass
+class Orbitals:
+    energies_hartree: list[list[float]]  # one list per spin channel (alpha[, beta])
+    homo_indices: list[int]  # 0-based, per spin channel
+    coefficients: list[list[list[float]]] | None = None  # per spin: n_mo x n_basis
+    basis_labels: list[str] | None = None
+    basis_atoms: list[int] | None = None  # 0-based atom index of each basis function
+    overlap: list[list[float]] | None = None  # n_basis x n_basis
+
+
+@dataclass
+class Calculation:
+    source: Source
+    program: str | None = None  # "Gaussian", "ORCA", "Q-Chem", "NWChem", "Psi4", "xtb", ...
+    program_version: str | None = None
+    job_kinds: list[str] = field(default_factory=list)  # "optimization", "frequencies", "single-point", "excited-states"
+    level: LevelOfTheory = field(default_factory=LevelOfTheory)
+    charge: int | None = None
+    multiplicity: int | None = None
+    s2: float | None = None  # <S^2> of the final wavefunction, where printed
+    status: RunStatus = field(default_factory=RunStatus)
+    problems: list[str] = field(default_factory=list)
+    elements: list[str] = field(default_factory=list)
+    coordinates_angstrom: list[list[float]] = field(default_factory=list)  # final geometry, N x 3
+    optimization_energies_hartree: list[float] = field(default_factory=list)
+    energies_hartree: dict[str, float] = field(default_factory=dict)  # {"scf": .., "mp2": .., "ccsd(t)": ..}
+    energy_hartree: float | None = None  # final energy at the highest level in the file
+    scf_energy_hartree: float | None = None
+    vibrations: Vibrations | None = None
+    printed_thermo: PrintedThermo | None = None
+    charges: dict[str, list[float]] = field(default_factory=dict)  # {"mulliken": [...], "lowdin": [...]}
+    spin_populations: dict[str, list[float]] = field(default_factory=dict)
+    excited_states: list[ExcitedState] = field(default_factory=list)
+    orbitals: Orbitals | None = None
+    dipole_debye: list[float] | None = None
+    reader_version: int = RECORD_SCHEMA_VERSION
+
+    # -- derived quantities -------------------------------------------------
+    @property
+    def n_atoms(self) -> int:
+        return len(self.elements)
+
+    @property
+    def atomic_numbers(self) -> list[int]:
+        return [ELEMENT_SYMBOLS.index(e) for e in self.elements]
+
+    @property
+    def n_imaginary(self) -> int | None:
+        return self.vibrations.n_imaginary if self.vibrations else None
+
+    @property
+    def s2_ideal(self) -> float | None:
+        """S(S+1) for the record's multiplicity."""
+        if self.multiplicity is None:
+            return None
+        s = (self.multiplicity - 1) / 2.0
+        return s * (s + 1.0)
+
+    @property
+    def s2_deviation(self) -> float | None:
+        if self.s2 is None or self.s2_ideal is None:
+            return None
+        return self.s2 - self.s2_ideal
+
+    @property
+    def formula(self) -> str:
+        """Hill formula (C first, H second, then alphabetical)."""
+        counts: dict[str, int] = {}
+        for e in self.elements:
+            counts[e] = counts.get(e, 0) + 1
+        order = [e for e in ("C", "H") if e in counts and "C" in counts]
+        order += sorted(e for e in counts if e not in order)
+        return "".join(f"{e}{counts[e] if counts[e] > 1 else ''}" for e in order)
+
+    # -- serialization ------------------------------------------------------
+    def to_dict(self) -> dict[str, Any]:
+        return dataclasses.asdict(self)
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> "Calculation":
+        d = dict(data)
+        d["source"] = Source(**d["source"])
+        d["level"] = LevelOfTheory(**d["level"])
+        d["status"] = RunStatus(**d["status"])
+        if d.get("vibrations") is not None:
+            d["vibrations"] = Vibrations(**d["vibrations"])
+        if d.get("printed_thermo") is not None:
+            d["printed_thermo"] = PrintedThermo(**d["printed_thermo"])
+        if d.get("orbitals") is not None:
+            d["orbitals"] = Orbitals(**d["orbitals"])
+        d["excited_states"] = [
+            ExcitedState(**{**x, "contributions": [tuple(c) for c in x.get("contributions", [])]})
+            for x in d.get("excited_states", [])
+        ]
+        return cls(**d)
+
+    def summary_dict(self) -> dict[str, Any]:
+        """The public JSON form printed by `dossier read --json` (keys documented in README)."""
+        vib = self.vibrations
+        return {
+            "path": self.source.path,
+            "sha256": self.source.sha256,
+            "size_bytes": self.source.size_bytes,
+            "program": self.program,
+            "program_version": self.program_version,
+            "job_kinds": list(self.job_kinds),
+            "level_of_theory": dataclasses.asdict(self.level) | {"label": self.level.label()},
+            "status": self.status.word,
+            "status_reason": self.status.reason,
+            "problems": list(self.problems),
+            "charge": self.charge,
+            "multiplicity": self.multiplicity,
+            "n_atoms": self.n_atoms,
+            "formula": self.formula if self.elements else None,
+            "elements": list(self.elements),
+            "coordinates_angstrom": self.coordinates_angstrom,
+            "energy_hartree": self.energy_hartree,
+            "scf_energy_hartree": self.scf_energy_hartree,
+            "energies_hartree": dict(self.energies_hartree),
+            "optimization_energies_hartree": list(self.optimization_energies_hartree),
+            "frequencies_cm1": list(vib.wavenumbers_cm1) if vib else [],
+            "ir_intensities_km_mol": list(vib.ir_intensities_km_mol) if vib and vib.ir_intensities_km_mol else [],
+            "n_imaginary": self.n_imaginary,
+            "spin_populations": dict(self.spin_populations),
+            "charges": dict(self.charges),
+            "excited_states": [dataclasses.asdict(x) for x in self.excited_states],
+            "s2": self.s2,
+            "s2_ideal": self.s2_ideal,
+            "printed_thermo": dataclasses.asdict(self.printed_thermo) if self.printed_thermo else None,
+            "dipole_debye": self.dipole_debye,
+        }

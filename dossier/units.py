@@ -1,0 +1,77 @@
+"""The only home of physical constants and unit conversions.
+
+Every value comes from scipy.constants (CODATA, the edition scipy ships; scipy >= 1.15
+ships CODATA 2022). No other module types a constant by hand.
+"""
+from __future__ import annotations
+
+import math
+
+from scipy import constants as _c
+
+# Fundamental constants, SI
+BOLTZMANN_J_K = _c.k
+PLANCK_J_S = _c.h
+HBAR_J_S = _c.hbar
+AVOGADRO_PER_MOL = _c.N_A
+GAS_CONSTANT_J_MOL_K = _c.R
+SPEED_OF_LIGHT_M_S = _c.c
+ELEMENTARY_CHARGE_C = _c.e
+ATOMIC_MASS_KG = _c.atomic_mass
+STANDARD_ATMOSPHERE_PA = _c.atm
+BAR_PA = _c.bar
+PI = math.pi
+
+# Energy conversions
+HARTREE_J = _c.physical_constants["Hartree energy"][0]
+HARTREE_EV = _c.physical_constants["Hartree energy in eV"][0]
+HARTREE_KJ_MOL = HARTREE_J * _c.N_A / 1000.0
+KCAL_KJ = _c.calorie  # thermochemical calorie, 4.184 J
+HARTREE_KCAL_MOL = HARTREE_KJ_MOL / KCAL_KJ
+EV_J = _c.eV
+EV_KJ_MOL = _c.eV * _c.N_A / 1000.0
+# wavenumber (cm-1) <-> energy: E = h c nu~, with nu~ in m-1 = 100 x cm-1
+CM1_J = _c.h * _c.c * 100.0
+CM1_KJ_MOL = CM1_J * _c.N_A / 1000.0
+HARTREE_CM1 = HARTREE_J / CM1_J
+EV_CM1 = _c.eV / CM1_J
+# photon wavelength in nm from cm-1: lambda = 1e7 / nu~
+NM_CM1 = 1.0e7
+
+# Lengths and dipoles
+BOHR_ANGSTROM = _c.physical_constants["Bohr radius"][0] * 1e10
+DEBYE_C_M = 1e-21 / _c.c
+AU_DIPOLE_C_M = _c.physical_constants["atomic unit of electric dipole mom."][0]
+AU_DIPOLE_DEBYE = AU_DIPOLE_C_M / DEBYE_C_M
+
+ENERGY_UNITS_FROM_KJ_MOL = {
+    "kJ/mol": 1.0,
+    "kcal/mol": 1.0 / KCAL_KJ,
+    "eV": 1.0 / EV_KJ_MOL,
+    "cm-1": 1.0 / CM1_KJ_MOL,
+}
+
+
+def hartree_to_kj_mol(e_hartree: float) -> float:
+    return e_hartree * HARTREE_KJ_MOL
+
+
+def kj_mol_to(value_kj_mol: float, unit: str) -> float:
+    """Convert kJ/mol to one of ENERGY_UNITS_FROM_KJ_MOL's units."""
+    return value_kj_mol * ENERGY_UNITS_FROM_KJ_MOL[unit]
+
+
+def ev_to_cm1(e_ev: float) -> float:
+    return e_ev * EV_CM1
+
+
+def cm1_to_kj_mol(nu_cm1: float) -> float:
+    return nu_cm1 * CM1_KJ_MOL
+
+
+def kj_mol_to_cm1(e_kj_mol: float) -> float:
+    return e_kj_mol / CM1_KJ_MOL
+
+
+def rt_kj_mol(temperature_k: float) -> float:
+    return GAS_CONSTANT_J_MOL_K * temperature_k / 1000.0
