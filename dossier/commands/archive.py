@@ -1,0 +1,41 @@
+"""`dossier archive MANIFEST --out FILE.tar.gz`: one deterministic, self-checking archive of a project."""
+from __future__ import annotations
+
+import sys
+
+from dossier.archive import write_archive
+
+HELP = "pack the outputs, inputs, manifest, built dossier, checksums and environment into one .tar.gz"
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("manifest", metavar="MANIFEST", help="the project manifest (dossier.toml)")
+    parser.add_argument("--out", required=True, metavar="FILE.tar.gz", help="archive to write (atomically)")
+    parser.add_argument(
+        "--build", metavar="DIR", default=None,
+        help="an existing build of this manifest to archive; used only if it is current, "
+        "otherwise (and by default) the dossier is built afresh in a temporary folder",
+    )
+    parser.add_argument(
+        "--formats", default=None, metavar="LIST",
+        help="comma-separated formats of a fresh build (default: the build's own default, all formats)",
+    )
+    parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers for a fresh build")
+    parser.add_argument("--no-cache", action="store_true", help="read every output afresh (no record cache)")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+
+
+def run(args) -> int:
+    def progress(text: str) -> None:
+        if not args.quiet:
+            print(f"archive: {text}", file=sys.stderr, flush=True)
+
+    formats = None
+    if args.formats:
+        formats = tuple(f.strip() for f in args.formats.split(",") if f.strip())
+    result = write_archive(
+        args.manifest, args.out, build_dir=args.build, formats=formats, jobs=args.jobs,
+        use_cache=not args.no_cache, progress=progress,
+    )
+    print(f"wrote {result.path} ({len(result.members)} files); check it with: dossier verify {result.path}")
+    return 0

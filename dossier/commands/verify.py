@@ -1,0 +1,35 @@
+"""`dossier verify ARCHIVE [--rebuild]`: check an archive's checksums; optionally rebuild and compare."""
+from __future__ import annotations
+
+import sys
+
+from dossier.archive import CHECKSUMS_NAME, verify_archive
+
+HELP = "check every file of a dossier archive against its checksum list (and optionally rebuild it)"
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("archive", metavar="ARCHIVE", help="a .tar.gz written by `dossier archive`")
+    parser.add_argument(
+        "--rebuild", action="store_true",
+        help="also rebuild the dossier from the archived files (in a temporary folder) and compare dossier.json",
+    )
+    parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers for the rebuild")
+
+
+def run(args) -> int:
+    def progress(text: str) -> None:
+        print(f"verify: {text}", file=sys.stderr, flush=True)
+
+    report = verify_archive(args.archive, rebuild=args.rebuild, jobs=args.jobs,
+                            progress=progress if args.rebuild else None)
+    for line in report.lines():
+        print(line)
+    if report.ok:
+        extra = "; the rebuilt dossier.json agrees with the archived one" if report.rebuilt else ""
+        print(f"ok: all {report.checked} files match {CHECKSUMS_NAME}{extra}")
+        return 0
+    n = (len(report.refused) + len(report.missing) + len(report.altered) + len(report.unexpected)
+         + len(report.problems) + len(report.rebuild_differences))
+    print(f"FAILED: {n} finding(s) in {args.archive}")
+    return 1
