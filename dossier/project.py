@@ -650,6 +650,10 @@ def load_manifest(path: str | Path) -> Manifest:
         key = ("states", name)
         st = v.table(st, key, "role, geometry, frequencies, ...")
         v.known_keys(st, key, _STATE_KEYS)
+        role = v.string(st, key + ("role",), choices=ROLES)
+        geometry = file_value(st, key + ("geometry",), required=True)
+        frequencies = file_value(st, key + ("frequencies",))
+        excited = file_value(st, key + ("excited_states",))
         sp_raw = st.get("single_points", {})
         sp_raw = v.table(sp_raw, key + ("single_points",), 'label = "FILE"')
         single_points: dict[str, Path] = {}
@@ -666,10 +670,10 @@ def load_manifest(path: str | Path) -> Manifest:
                              f"states.{name}.symmetry_number must be a whole number >= 1; got {sym!r}")
         states[name] = StateSpec(
             name=name,
-            role=v.string(st, key + ("role",), choices=ROLES),
-            geometry=file_value(st, key + ("geometry",), required=True),
-            frequencies=file_value(st, key + ("frequencies",)),
-            excited_states=file_value(st, key + ("excited_states",)),
+            role=role,
+            geometry=geometry,
+            frequencies=frequencies,
+            excited_states=excited,
             single_points=single_points,
             symmetry_number=sym,
             note=v.string(st, key + ("note",)),
