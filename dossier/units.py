@@ -75,3 +75,15 @@ def kj_mol_to_cm1(e_kj_mol: float) -> float:
 
 def rt_kj_mol(temperature_k: float) -> float:
     return GAS_CONSTANT_J_MOL_K * temperature_k / 1000.0
+
+# Added for the electron-transfer analysis (dossier/marcus.py)
+VACUUM_PERMITTIVITY_F_M = _c.epsilon_0
+# molar absorptivity: 1 M-1 cm-1 = 1 L mol-1 cm-1 = 1e-3 m3 mol-1 / 1e-2 m = 0.1 m2 mol-1
+M1_CM1_TO_M2_MOL = _c.liter / _c.centi
+ANGSTROM_M = _c.angstrom
+CM1_TO_M1 = 1.0 / _c.centi  # wavenumber cm-1 -> m-1
+CM1_HZ = _c.c / _c.centi  # frequency (s-1) of a 1 cm-1 wavenumber: nu = c nu~
+KJ_MOL_J = 1000.0 / _c.N_A  # one kJ/mol as energy per molecule, J
+
+# Added for thermochemistry (dossier/thermo.py): 1 mol/L standard state, c = 1 / LITRE_M3 mol m-3
+LITRE_M3 = _c.liter
