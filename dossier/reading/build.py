@@ -1,0 +1,123 @@
+"""From log text to a finished record: cclib adapter, then the program's supplement, then
+status and the normalization rules every record obeys (see dossier.records for units)."""
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from dossier.reading.cclib_adapter import parse_with_cclib, to_calculation
+from dossier.reading.status import run_status
+from dossier.reading.supplements import BY_PROGRAM
+from dossier.records import Calculation, Source
+
+#: Energy levels from lowest to highest; energy_hartree is taken at the highest present.
+LEVEL_RANK = ("xtb", "scf", "mp2", "mp3", "mp4(sdq)", "mp4", "ccsd", "ccsd(t)")
+
+
+def build_record(text: str, program: str, source: Source) -> Calculation:
+    # A cut-off log may end inside a line (a number cut in half): parse whole lines only.
+    cut = text.rfind("\n")
+    parse_text = text if text.endswith("\n") or cut < 0 else text[: cut + 1]
+    orca6 = program == "ORCA" and re.search(r"Program Version 6\.", text[:20000]) is not None
+    data, notes, skipped = parse_with_cclib(parse_text, program, orca6=orca6)
+    calc = to_calculation(data, source, program)
+    calc.problems.extend(notes)
+    supplement = BY_PROGRAM[program]
+    supplement.apply(calc, parse_text, data)
+    unexplained = [s for s in skipped if not supplement.covers_skipped(s)]
+    if unexplained:
+        calc.problems.append(
+            "cclib skipped section(s) it could not parse: " + "; ".join(f"'{line}' ({err})" for line, err in unexplained[:3])
+        )
+    calc.status = run_status(program, text, is_optimization="optimization" in calc.job_kinds)
+    finalize(calc)
+    return calc
+
+
+def _is_linear(coords) -> bool:
+    x = np.asarray(coords, dtype=float)
+    if len(x) < 3:
+        return True
+    x = x - x.mean(axis=0)
+    s = np.linalg.svd(x, compute_uv=False)
+    return bool(s[1] < 1e-3 * max(s[0], 1e-12))
+
+
+def finalize(calc: Calculation) -> None:
+    """Rules every record obeys, whatever program wrote it."""
+    # Job kinds
+    kinds = list(dict.fromkeys(calc.job_kinds))
+    if calc.vibrations and "frequencies" not in kinds:
+        kinds.append("frequencies")
+    if calc.excited_states and "excited-states" not in kinds:
+        kinds.append("excited-states")
+    if not any(k in kinds for k in ("optimization", "frequencies")):
+        kinds.insert(0, "single-point")
+    calc.job_kinds = kinds
+
+    # Real normal modes only: 3N-6 (3N-5 linear); drop translation/rotation rows (smallest |v|)
+    vib = calc.vibrations
+    if vib and calc.elements:
+        n = len(calc.elements)
+        expected = 3 * n - (5 if _is_linear(calc.coordinates_angstrom or [[0, 0, 0]] * n) else 6)
+        order = list(range(len(vib.wavenumbers_cm1)))
+        if len(order) > expected >= 0:
+            by_size = sorted(order, key=lambda i: abs(vib.wavenumbers_cm1[i]))
+            drop = set(by_size[: len(order) - expected])
+            order = [i for i in order if i not in drop]
+        order.sort(key=lambda i: vib.wavenumbers_cm1[i])
+        vib.wavenumbers_cm1 = [vib.wavenumbers_cm1[i] for i in order]
+        if vib.displacements is not None:
+            vib.displacements = [vib.displacements[i] for i in order]
+        if vib.ir_intensities_km_mol is not None:
+            vib.ir_intensities_km_mol = [vib.ir_intensities_km_mol[i] for i in order]
+        if len(order) < expected:
+            calc.problems.append(f"only {len(order)} of {expected} vibrational modes printed")
+
+    # Final energy at the highest level present
+    if calc.scf_energy_hartree is None and "scf" in calc.energies_hartree:
+        calc.scf_energy_hartree = calc.energies_hartree["scf"]
+    present = [lvl for lvl in LEVEL_RANK if lvl in calc.energies_hartree]
+    extra = [lvl for lvl in calc.energies_hartree if lvl not in LEVEL_RANK]
+    if present:
+        calc.energy_hartree = calc.energies_hartree[present[-1]]
+    elif extra:
+        calc.energy_hartree = calc.energies_hartree[extra[-1]]
+
+    if calc.s2 is not None and calc.s2_deviation is not None and abs(calc.s2_deviation) > 0.1 and calc.multiplicity:
+        calc.problems.append(
+            f"spin contamination: <S^2> = {calc.s2:.4f}, ideal S(S+1) = {calc.s2_ideal:.4f}"
+            " (tolerance 0.1, common practice, no source)"
+        )
+
+    # A run that did not finish: keep only what cannot change later in the log.
+    if calc.status.word in ("truncated", "failed"):
+        withhold(calc)
+    elif calc.status.word != "ok" and calc.status.reason:
+        calc.problems.append(calc.status.reason)
+
+
+def withhold(calc: Calculation) -> None:
+    """Remove every final quantity from a record of a run that stopped early.
+
+    A cut-off log must never yield a number the complete log would not: the last geometry,
+    energy, populations or spectra printed before the cut are intermediate values.
+    Kept: program, level, charge, multiplicity, elements, and the energies of finished
+    optimisation steps (a prefix of the complete log's list).
+    """
+    calc.problems.append(f"{calc.status.word}: {calc.status.reason}; final quantities withheld")
+    calc.coordinates_angstrom = []
+    calc.energies_hartree = {}
+    calc.energy_hartree = None
+    calc.scf_energy_hartree = None
+    calc.vibrations = None
+    calc.printed_thermo = None
+    calc.charges = {}
+    calc.spin_populations = {}
+    calc.excited_states = []
+    calc.orbitals = None
+    calc.dipole_debye = None
+    calc.s2 = None
+    if "optimization" not in calc.job_kinds:
+        calc.optimization_energies_hartree = []

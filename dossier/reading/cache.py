@@ -1,0 +1,73 @@
+"""Cache of parsed records: one JSON file per (file content SHA-256, record schema, reader version).
+
+Location: the `cache_dir` argument, else $DOSSIER_CACHE_DIR, else $XDG_CACHE_HOME/dossier,
+else ~/.cache/dossier. An entry that cannot be read, does not parse, or carries another
+key is ignored (and overwritten by the fresh read); entries are written to a temporary
+name and renamed, so a crash never leaves half an entry.
+"""
+from __future__ import annotations
+
+import json
+import os
+import tempfile
+from pathlib import Path
+
+from dossier.records import RECORD_SCHEMA_VERSION, Calculation
+
+#: Bump when the reading code changes what it extracts (supplements, normalization).
+READER_VERSION = "2026.12.1-r1"
+
+
+def default_cache_dir() -> Path:
+    env = os.environ.get("DOSSIER_CACHE_DIR")
+    if env:
+        return Path(env)
+    xdg = os.environ.get("XDG_CACHE_HOME")
+    if xdg:
+        return Path(xdg) / "dossier"
+    return Path.home() / ".cache" / "dossier"
+
+
+def cache_key(sha256: str) -> str:
+    return f"{sha256}-s{RECORD_SCHEMA_VERSION}-{READER_VERSION}"
+
+
+def entry_path(cache_dir: Path, sha256: str) -> Path:
+    return Path(cache_dir) / f"{cache_key(sha256)}.json"
+
+
+def load(cache_dir: Path | None, sha256: str) -> Calculation | None:
+    """The cached record for this content, or None when absent, damaged or stale."""
+    path = entry_path(cache_dir or default_cache_dir(), sha256)
+    try:
+        with open(path, encoding="utf-8") as fh:
+            payload = json.load(fh)
+        if payload.get("key") != cache_key(sha256):
+            return None
+        calc = Calculation.from_dict(payload["record"])
+        if calc.source.sha256 != sha256 or calc.reader_version != RECORD_SCHEMA_VERSION:
+            return None
+        return calc
+    except (OSError, ValueError, KeyError, TypeError, AttributeError):
+        return None
+
+
+def store(cache_dir: Path | None, calc: Calculation) -> None:
+    """Write the record atomically; a cache that cannot be written is silently skipped."""
+    folder = Path(cache_dir or default_cache_dir())
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        payload = {"key": cache_key(calc.source.sha256), "record": calc.to_dict()}
+        fd, tmp = tempfile.mkstemp(prefix=".tmp-", suffix=".json", dir=folder)
+        try:
+            with os.fdopen(fd, "w", encoding="utf-8") as fh:
+                json.dump(payload, fh, separators=(",", ":"), allow_nan=True)
+            os.replace(tmp, entry_path(folder, calc.source.sha256))
+        except BaseException:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
+            raise
+    except OSError:
+        return

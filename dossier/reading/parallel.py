@@ -1,0 +1,142 @@
+"""Read many files at once on a process pool (or any concurrent.futures executor).
+
+Cache hits are served in the calling process (hashing a file is much cheaper than parsing
+it); the rest go to the workers with at most `2 * workers` files in flight, so memory stays
+bounded by the files being read, not by the size of the project.
+"""
+from __future__ import annotations
+
+import os
+import sys
+import time
+from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
+
+from dossier.errors import ReadError
+
+
+def _read_one(path, use_cache, cache_dir):
+    """Worker entry point: returns ("ok", record) or ("error", reason, where) (picklable)."""
+    from dossier.reading import read
+
+    try:
+        return ("ok", read(path, use_cache=use_cache, cache_dir=cache_dir))
+    except ReadError as exc:
+        return ("error", exc.reason, exc.where)
+
+
+def _cached_only(path, cache_dir):
+    """The cached record when the file's content is already cached, else None (no parsing)."""
+    import dataclasses
+    import hashlib
+
+    from dossier.reading import cache
+    from dossier.records import Source
+
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read()
+    except OSError:
+        return None
+    sha = hashlib.sha256(raw).hexdigest()
+    hit = cache.load(cache_dir, sha)
+    if hit is None:
+        return None
+    return dataclasses.replace(hit, source=Source(path=str(path), sha256=sha, size_bytes=len(raw)))
+
+
+def default_jobs() -> int:
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+class TerminalProgress:
+    """A one-line progress bar on stderr, shown only on a terminal and only after ~1 s."""
+
+    def __init__(self, stream=None, delay_s: float = 1.0):
+        self.stream = stream or sys.stderr
+        self.delay_s = delay_s
+        self.start = time.monotonic()
+        self.shown = False
+        self.enabled = hasattr(self.stream, "isatty") and self.stream.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.enabled or total <= 0:
+            return
+        if not self.shown and time.monotonic() - self.start < self.delay_s and done < total:
+            return
+        self.shown = True
+        width = 30
+        filled = int(width * done / total)
+        self.stream.write(f"\rreading {done}/{total} [{'#' * filled}{'.' * (width - filled)}]")
+        if done >= total:
+            self.stream.write("\n")
+        self.stream.flush()
+
+
+def read_many(paths, *, jobs=None, executor: Executor | None = None, use_cache=True, cache_dir=None, progress=None):
+    """Read every path; list of Calculation or ReadError, in input order (errors returned)."""
+    from dossier.reading import read
+
+    paths = list(paths)
+    total = len(paths)
+    results: list = [None] * total
+    done = 0
+
+    def tick():
+        if progress is not None:
+            progress(done, total)
+
+    todo = []
+    for i, p in enumerate(paths):
+        hit = _cached_only(p, cache_dir) if use_cache else None
+        if hit is not None:
+            results[i] = hit
+            done += 1
+        else:
+            todo.append(i)
+    if done:
+        tick()
+
+    n_jobs = jobs if jobs is not None else default_jobs()
+    if executor is None and (n_jobs <= 1 or len(todo) <= 1):
+        for i in todo:
+            try:
+                results[i] = read(paths[i], use_cache=use_cache, cache_dir=cache_dir)
+            except ReadError as exc:
+                results[i] = exc
+            done += 1
+            tick()
+        return results
+
+    own = executor is None
+    pool = executor or ProcessPoolExecutor(max_workers=min(n_jobs, len(todo)))
+    workers = getattr(pool, "_max_workers", n_jobs) or n_jobs
+    window = max(2, 2 * workers)
+    try:
+        pending = {}
+        queue = iter(todo)
+        for i in queue:
+            pending[pool.submit(_read_one, paths[i], use_cache, cache_dir)] = i
+            if len(pending) >= window:
+                break
+        while pending:
+            finished, _ = wait(pending, return_when=FIRST_COMPLETED)
+            for fut in finished:
+                i = pending.pop(fut)
+                try:
+                    out = fut.result()
+                except Exception as exc:  # noqa: BLE001 - a crashed worker is that file's error
+                    results[i] = ReadError(f"could not be read (worker failed: {type(exc).__name__}: {exc})", str(paths[i]))
+                else:
+                    results[i] = out[1] if out[0] == "ok" else ReadError(out[1], out[2])
+                done += 1
+                tick()
+                nxt = next(queue, None)
+                if nxt is not None:
+                    pending[pool.submit(_read_one, paths[nxt], use_cache, cache_dir)] = nxt
+    finally:
+        if own:
+            pool.shutdown(wait=True, cancel_futures=True)
+    return results
