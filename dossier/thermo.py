@@ -1,0 +1,703 @@
+"""Ideal-gas thermochemistry of one molecule from its geometry and harmonic wavenumbers.
+
+Rigid-rotor harmonic-oscillator (RRHO) partition functions, the same way for every program:
+
+- translation: Sackur–Tetrode (McQuarrie, *Statistical Mechanics*, 1976, eqs 5-19/5-20);
+- rotation: rigid rotor in the high-temperature limit, with the rotational symmetry number
+  found from the geometry (McQuarrie 1976, eqs 6-50 and 8-59/8-61); linear molecules;
+- vibration: harmonic oscillators, zero-point energy counted from the well bottom
+  (McQuarrie 1976, eqs 8-22 to 8-25; Ochterski, "Thermochemistry in Gaussian", 2000, eqs 5-7);
+- electronic: spin degeneracy 2S+1 only, no excited states (Ochterski 2000, section 2.4);
+- low modes, optionally: Grimme's quasi-RRHO entropy (Chem. Eur. J. 2012, 18, 9955, eqs 4-8)
+  or Truhlar's raising of real modes below 100 cm-1 to 100 cm-1 (Ribeiro, Marenich, Cramer,
+  Truhlar, J. Phys. Chem. B 2011, 115, 14556).
+
+Everything takes plain numbers (elements, coordinates in angstrom, wavenumbers in cm-1,
+multiplicity), so this module does not depend on the reading layer; `thermo_from_record`
+is a thin convenience over a `dossier.records.Calculation`.
+Energies of the result are in hartree per molecule (the programs' convention), entropies
+and heat capacities in J/(mol K). Constants come from dossier.units only.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+from typing import Any, Sequence
+
+import numpy as np
+
+from dossier import units
+from dossier.errors import DossierError
+
+# -- method parameters (published values, not physical constants) -----------------------
+#: Grimme 2012 (Chem. Eur. J. 18, 9955), p. 9957: rotor/oscillator switch frequency omega_0.
+GRIMME_W0_CM1 = 100.0
+#: Grimme 2012, eq 8: exponent alpha of the Head-Gordon damping function.
+GRIMME_ALPHA = 4
+#: Grimme 2012, text after eq 5: average molecular moment of inertia B_av, kg m^2.
+GRIMME_BAV_KG_M2 = 1.0e-44
+#: Ribeiro et al. 2011 (J. Phys. Chem. B 115, 14556): real modes below this are raised to it.
+TRUHLAR_RAISE_CM1 = 100.0
+
+STANDARD_STATES = ("1atm", "1bar", "1M")
+QRRHO_METHODS = ("none", "grimme", "truhlar")
+
+#: Default geometric tolerance (angstrom) when testing symmetry operations on a geometry.
+SYMMETRY_TOLERANCE_ANGSTROM = 0.02
+
+_R = units.GAS_CONSTANT_J_MOL_K
+_K = units.BOLTZMANN_J_K
+_H = units.PLANCK_J_S
+_J_MOL_PER_HARTREE = units.HARTREE_KJ_MOL * 1000.0
+_AMU_A2_TO_KG_M2 = units.ATOMIC_MASS_KG * units.ANGSTROM_M**2
+
+
+class ThermoError(DossierError):
+    """The thermochemistry cannot be computed from the given geometry and wavenumbers."""
+
+
+# ========================================================================================
+# Masses
+# ========================================================================================
+def atomic_masses_amu(elements: Sequence[str], masses: str = "isotopic") -> list[float]:
+    """Atomic masses in u, from the `periodictable` package (IUPAC/NIST data).
+
+    masses="isotopic": the most abundant isotope (12.000 for C, 1.00783 for H), as Gaussian,
+    Q-Chem, NWChem and Psi4 use for thermochemistry; elements without a stable isotope get
+    the standard atomic weight. masses="average": standard atomic weights (12.011 for C), as
+    ORCA and ASE use.
+    """
+    import periodictable
+
+    if masses not in ("isotopic", "average"):
+        raise ThermoError(f"unknown mass convention {masses!r}; use 'isotopic' or 'average'")
+    out = []
+    for symbol in elements:
+        try:
+            el = getattr(periodictable, symbol.capitalize())
+        except AttributeError:
+            raise ThermoError(f"unknown element symbol {symbol!r}") from None
+        if masses == "average":
+            out.append(float(el.mass))
+            continue
+        best = max(((el[i].abundance or 0.0, el[i].mass) for i in el.isotopes), default=(0.0, el.mass))
+        out.append(float(best[1]) if best[0] > 0 else float(el.mass))
+    return out
+
+
+# ========================================================================================
+# Moments of inertia and rotational symmetry
+# ========================================================================================
+def principal_moments_amu_a2(masses_amu: Sequence[float], coordinates_angstrom) -> tuple[np.ndarray, np.ndarray]:
+    """Principal moments (u A^2, ascending) and axes (columns) of the inertia tensor.
+
+    I_ab = sum_i m_i (r_i^2 delta_ab - r_ia r_ib) about the centre of mass
+    (McQuarrie 1976, section 8-5; Ochterski 2000, section 2.3).
+    """
+    m = np.asarray(masses_amu, dtype=float)
+    x = np.asarray(coordinates_angstrom, dtype=float)
+    x = x - (m[:, None] * x).sum(axis=0) / m.sum()
+    tensor = np.sum(m) * 0.0 + np.einsum("i,ij,ik->jk", m, x, x)
+    inertia = np.eye(3) * np.trace(tensor) - tensor
+    moments, axes = np.linalg.eigh(inertia)
+    return np.clip(moments, 0.0, None), axes
+
+
+def _is_linear(moments: np.ndarray, n_atoms: int) -> bool:
+    return n_atoms == 2 or (n_atoms > 2 and moments[0] < 1e-3 * max(moments[2], 1e-12) and moments[0] < 1e-2)
+
+
+def _rotation_matrix(axis: np.ndarray, angle: float) -> np.ndarray:
+    """Rodrigues' rotation formula (right-handed rotation by `angle` about unit `axis`)."""
+    a = axis / np.linalg.norm(axis)
+    k = np.array([[0.0, -a[2], a[1]], [a[2], 0.0, -a[0]], [-a[1], a[0], 0.0]])
+    return np.eye(3) + math.sin(angle) * k + (1.0 - math.cos(angle)) * (k @ k)
+
+
+def _reflection_matrix(normal: np.ndarray) -> np.ndarray:
+    n = normal / np.linalg.norm(normal)
+    return np.eye(3) - 2.0 * np.outer(n, n)
+
+
+def _maps_onto_itself(op: np.ndarray, x: np.ndarray, labels: np.ndarray, tol: float) -> bool:
+    """True if every atom, moved by `op`, lands within `tol` of an atom of the same element."""
+    y = x @ op.T
+    d = np.linalg.norm(y[:, None, :] - x[None, :, :], axis=2)
+    d[labels[:, None] != labels[None, :]] = np.inf
+    if not np.all(d.min(axis=1) <= tol):
+        return False
+    # a permutation, not a many-to-one map
+    return len(set(np.argmin(d, axis=1).tolist())) == len(x)
+
+
+def _unique_axes(vectors: list[np.ndarray], min_norm: float) -> list[np.ndarray]:
+    found: list[np.ndarray] = []
+    for v in vectors:
+        norm = np.linalg.norm(v)
+        if norm < min_norm:
+            continue
+        u = v / norm
+        if all(abs(abs(float(u @ w)) - 1.0) > 1e-6 for w in found):
+            found.append(u)
+    return found
+
+
+def _close_group(ops: list[np.ndarray], limit: int = 240) -> list[np.ndarray]:
+    """Smallest set containing `ops` that is closed under products (the generated group)."""
+
+    def known(m, pool):
+        return any(np.abs(m - p).max() < 1e-3 for p in pool)
+
+    group = [np.eye(3)]
+    for op in ops:
+        if not known(op, group):
+            group.append(op)
+    grew = True
+    while grew and len(group) <= limit:
+        grew = False
+        for a in list(group):
+            for b in list(group):
+                c = a @ b
+                if not known(c, group):
+                    group.append(c)
+                    grew = True
+    return group
+
+
+@dataclass
+class SymmetryInfo:
+    point_group: str  # Schoenflies symbol, e.g. "C2h", "Td", "D*h" for a linear centrosymmetric molecule
+    symmetry_number: int  # order of the rotational subgroup
+    linear: bool
+    tolerance_angstrom: float
+    n_operations: int  # order of the full point group found
+
+
+def detect_symmetry(
+    elements: Sequence[str],
+    coordinates_angstrom,
+    *,
+    masses_amu: Sequence[float] | None = None,
+    tolerance_angstrom: float = SYMMETRY_TOLERANCE_ANGSTROM,
+    max_order: int = 8,
+) -> SymmetryInfo:
+    """Point group and rotational symmetry number, by testing operations on the geometry.
+
+    Candidate axes: the principal axes of inertia (every symmetry element of an asymmetric
+    top lies along them), plus, for symmetric and spherical tops, the directions of atoms,
+    of midpoints and of normals of pairs of like atoms. Each candidate C_n (n <= max_order),
+    S_2n, mirror and the inversion is kept when every atom lands within `tolerance_angstrom`
+    of a like atom; the kept operations are closed into a group. The rotational symmetry
+    number is the order of the group's proper-rotation subgroup (McQuarrie 1976, section 8-7;
+    Ochterski 2000, section 2.3, table of symmetry numbers); point-group naming follows the
+    usual Schoenflies flow chart (Cotton, *Chemical Applications of Group Theory*, 3rd ed.
+    1990, section 3.14).
+    """
+    x = np.asarray(coordinates_angstrom, dtype=float).reshape(-1, 3)
+    n = len(x)
+    labels = np.array([e.capitalize() for e in elements])
+    if len(labels) != n:
+        raise ThermoError(f"{len(labels)} elements but {n} coordinates")
+    masses = np.asarray(masses_amu if masses_amu is not None else atomic_masses_amu(elements), dtype=float)
+    tol = float(tolerance_angstrom)
+    if n == 1:
+        return SymmetryInfo("K", 1, False, tol, 1)
+    x = x - (masses[:, None] * x).sum(axis=0) / masses.sum()
+    moments, axes = principal_moments_amu_a2(masses, x)
+    if _is_linear(moments, n):
+        centro = _maps_onto_itself(-np.eye(3), x, labels, tol)
+        return SymmetryInfo("D*h" if centro else "C*v", 2 if centro else 1, True, tol, 0)
+
+    scale = max(moments[2], 1e-12)
+    degenerate = (moments[1] - moments[0]) < 0.05 * scale or (moments[2] - moments[1]) < 0.05 * scale
+    candidates = [axes[:, i] for i in range(3)]
+    if degenerate:
+        candidates += [x[i] for i in range(n)]
+        for i in range(n):
+            for j in range(i + 1, n):
+                if labels[i] == labels[j]:
+                    candidates.append(x[i] + x[j])
+                    candidates.append(np.cross(x[i], x[j]))
+                    candidates.append(x[i] - x[j])
+    cand = _unique_axes(candidates, min_norm=1e-3)
+    orders = range(2, max_order + 1) if degenerate else (2,)
+
+    ops: list[np.ndarray] = []
+    inversion = -np.eye(3)
+    if _maps_onto_itself(inversion, x, labels, tol):
+        ops.append(inversion)
+    for axis in cand:
+        mirror = _reflection_matrix(axis)
+        if _maps_onto_itself(mirror, x, labels, tol):
+            ops.append(mirror)
+        for k in orders:
+            rot = _rotation_matrix(axis, 2.0 * math.pi / k)
+            if _maps_onto_itself(rot, x, labels, tol):
+                ops.append(rot)
+            improper = mirror @ _rotation_matrix(axis, math.pi / k)  # S_2k
+            if _maps_onto_itself(improper, x, labels, tol):
+                ops.append(improper)
+    group = _close_group(ops)
+    proper = [g for g in group if np.linalg.det(g) > 0]
+    sigma = len(proper)
+    return SymmetryInfo(_schoenflies(group, proper), sigma, False, tol, len(group))
+
+
+def _rotation_order_and_axis(m: np.ndarray) -> tuple[int, np.ndarray | None]:
+    cos_t = max(-1.0, min(1.0, (np.trace(m) - 1.0) / 2.0))
+    theta = math.acos(cos_t)
+    if theta < 1e-6:
+        return 1, None
+    order = round(2.0 * math.pi / theta)
+    w, v = np.linalg.eig(m)
+    axis = np.real(v[:, np.argmin(np.abs(w - 1.0))])
+    return order, axis / np.linalg.norm(axis)
+
+
+def _schoenflies(group: list[np.ndarray], proper: list[np.ndarray]) -> str:
+    has_inversion = any(np.abs(g + np.eye(3)).max() < 1e-3 for g in group)
+    mirrors = [g for g in group if np.linalg.det(g) < 0 and abs(np.trace(g) - 1.0) < 1e-3]
+    mirror_normals = [np.real(np.linalg.eig(g)[1][:, np.argmin(np.abs(np.linalg.eig(g)[0] + 1.0))]) for g in mirrors]
+    rotations = [_rotation_order_and_axis(g) for g in proper]
+    n_max = max(o for o, _ in rotations)
+    high_axes = _unique_axes([a for o, a in rotations if o >= 3 and a is not None], 1e-6)
+    g_plus = len(proper)
+    if len(high_axes) > 1:  # cubic and icosahedral groups
+        base = {12: "T", 24: "O", 60: "I"}.get(g_plus, "?")
+        if has_inversion:
+            return base + "h"
+        return base + "d" if (mirrors and base == "T") else base
+    principal = [a for o, a in rotations if o == n_max and a is not None]
+    sigma_h = any(abs(abs(float(nrm @ ax)) - 1.0) < 1e-3 for nrm in mirror_normals for ax in principal)
+    if n_max == 1:
+        if mirrors:
+            return "Cs"
+        return "Ci" if has_inversion else "C1"
+    if g_plus == 2 * n_max:  # n C2 axes perpendicular to the principal axis
+        if sigma_h:
+            return f"D{n_max}h"
+        return f"D{n_max}d" if mirrors else f"D{n_max}"
+    if sigma_h:
+        return f"C{n_max}h"
+    if mirrors:
+        return f"C{n_max}v"
+    if len(group) == 2 * g_plus:
+        return f"S{2 * n_max}"
+    return f"C{n_max}"
+
+
+# ========================================================================================
+# Partition-function pieces (each one equation, with its source)
+# ========================================================================================
+def translational_entropy_j_mol_k(mass_amu: float, temperature_k: float, pressure_pa: float) -> float:
+    """Sackur–Tetrode: S_t = R [ln((2 pi m k T / h^2)^(3/2) k T / p) + 5/2].
+
+    McQuarrie, *Statistical Mechanics* (1976), eq 5-20; Ochterski, "Thermochemistry in
+    Gaussian" (2000), eqs 9-10.
+    """
+    m = mass_amu * units.ATOMIC_MASS_KG
+    q_per_volume = (2.0 * math.pi * m * _K * temperature_k / _H**2) ** 1.5
+    return _R * (math.log(q_per_volume * _K * temperature_k / pressure_pa) + 2.5)
+
+
+def rotational_temperatures_k(moments_amu_a2: Sequence[float]) -> list[float]:
+    """Theta_r = h^2 / (8 pi^2 I k) for each principal moment (McQuarrie 1976, eq 6-31)."""
+    return [_H**2 / (8.0 * math.pi**2 * i * _AMU_A2_TO_KG_M2 * _K) if i > 0 else math.inf for i in moments_amu_a2]
+
+
+def rotational_entropy_j_mol_k(
+    moments_amu_a2: Sequence[float], temperature_k: float, symmetry_number: int, linear: bool
+) -> float:
+    """High-temperature rigid rotor entropy.
+
+    Nonlinear: q_r = (pi^1/2 / sigma) (T^3 / (Theta_A Theta_B Theta_C))^(1/2),
+    S_r = R (ln q_r + 3/2) (McQuarrie 1976, eqs 8-59 and 8-61; Ochterski 2000, eqs 19-22).
+    Linear: q_r = T / (sigma Theta_r), S_r = R (ln q_r + 1) (McQuarrie 1976, eqs 6-50 and 6-53;
+    Ochterski 2000, eqs 16-18).
+    """
+    theta = rotational_temperatures_k(moments_amu_a2)
+    if linear:
+        q = temperature_k / (symmetry_number * theta[-1])
+        return _R * (math.log(q) + 1.0)
+    q = math.sqrt(math.pi) / symmetry_number * math.sqrt(temperature_k**3 / (theta[0] * theta[1] * theta[2]))
+    return _R * (math.log(q) + 1.5)
+
+
+def harmonic_zpe_j_mol(wavenumber_cm1: float) -> float:
+    """Zero-point energy of one harmonic mode, N_A h c nu~ / 2 (McQuarrie 1976, eq 8-22)."""
+    return 0.5 * wavenumber_cm1 * units.CM1_KJ_MOL * 1000.0
+
+
+def _x(wavenumber_cm1: float, temperature_k: float) -> float:
+    """Reduced frequency x = h c nu~ / (k T) = Theta_v / T (McQuarrie 1976, eq 8-20)."""
+    return wavenumber_cm1 * units.CM1_J / (_K * temperature_k)
+
+
+def harmonic_thermal_energy_j_mol(wavenumber_cm1: float, temperature_k: float) -> float:
+    """Thermal (above zero-point) energy of one mode, R Theta_v / (e^x - 1).
+
+    McQuarrie 1976, eq 8-23 without the zero-point term; Ochterski 2000, eq 5.
+    """
+    x = _x(wavenumber_cm1, temperature_k)
+    return _R * temperature_k * x / math.expm1(x)
+
+
+def harmonic_entropy_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
+    """S_v = R [x / (e^x - 1) - ln(1 - e^-x)] for one mode (McQuarrie 1976, eq 8-25;
+    Ochterski 2000, eq 7; Grimme 2012, the oscillator entropy S_V his eq 7 interpolates)."""
+    x = _x(wavenumber_cm1, temperature_k)
+    return _R * (x / math.expm1(x) - math.log(-math.expm1(-x)))
+
+
+def harmonic_heat_capacity_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
+    """C_v = R x^2 e^x / (e^x - 1)^2 for one mode (McQuarrie 1976, eq 8-24; Ochterski 2000, eq 6)."""
+    x = _x(wavenumber_cm1, temperature_k)
+    return _R * x * x * math.exp(x) / math.expm1(x) ** 2
+
+
+def free_rotor_entropy_j_mol_k(
+    wavenumber_cm1: float, temperature_k: float, bav_kg_m2: float = GRIMME_BAV_KG_M2
+) -> float:
+    """Entropy of the free rotor that replaces a low mode, Grimme, Chem. Eur. J. 2012, 18, 9955.
+
+    eq 4: mu = h / (8 pi^2 nu), the moment of inertia of a rotor with the mode's frequency;
+    eq 5: mu' = mu B_av / (mu + B_av), bounded by the average molecular moment B_av;
+    eq 6: S_R = R [1/2 + ln((8 pi^3 mu' k T / h^2)^(1/2))].
+    As nu -> 0, mu' -> B_av and S_R tends to the free-rotor limit with moment B_av.
+    """
+    nu_s = wavenumber_cm1 * units.CM1_HZ
+    mu = _H / (8.0 * math.pi**2 * nu_s) if nu_s > 0 else math.inf
+    mu_prime = bav_kg_m2 if math.isinf(mu) else mu * bav_kg_m2 / (mu + bav_kg_m2)
+    return _R * (0.5 + 0.5 * math.log(8.0 * math.pi**3 * mu_prime * _K * temperature_k / _H**2))
+
+
+def grimme_weight(wavenumber_cm1: float, w0_cm1: float = GRIMME_W0_CM1, alpha: int = GRIMME_ALPHA) -> float:
+    """Head-Gordon damping w = 1 / (1 + (omega_0 / omega)^alpha) (Grimme 2012, eq 8)."""
+    return 1.0 / (1.0 + (w0_cm1 / wavenumber_cm1) ** alpha)
+
+
+def grimme_entropy_j_mol_k(
+    wavenumber_cm1: float,
+    temperature_k: float,
+    *,
+    w0_cm1: float = GRIMME_W0_CM1,
+    alpha: int = GRIMME_ALPHA,
+    bav_kg_m2: float = GRIMME_BAV_KG_M2,
+) -> float:
+    """Quasi-RRHO entropy of one mode, S = w S_V + (1 - w) S_R (Grimme 2012, eq 7)."""
+    w = grimme_weight(wavenumber_cm1, w0_cm1, alpha)
+    return w * harmonic_entropy_j_mol_k(wavenumber_cm1, temperature_k) + (1.0 - w) * free_rotor_entropy_j_mol_k(
+        wavenumber_cm1, temperature_k, bav_kg_m2
+    )
+
+
+def standard_state_pressure_pa(standard_state: str, temperature_k: float) -> float:
+    """Pressure that gives the standard state's translational entropy.
+
+    1atm = 101325 Pa; 1bar = 1e5 Pa; 1M (1 mol/L) is the ideal-gas pressure of that
+    concentration, p = c R T (24.46 atm at 298.15 K), so that G(1M) - G(1atm) =
+    R T ln(c R T / 1 atm) (Ben-Naim, *Solvation Thermodynamics*, 1987; Cramer,
+    *Essentials of Computational Chemistry*, 2nd ed. 2004, section 10.3).
+    """
+    if standard_state == "1atm":
+        return units.STANDARD_ATMOSPHERE_PA
+    if standard_state == "1bar":
+        return units.BAR_PA
+    if standard_state == "1M":
+        return 1.0 / units.LITRE_M3 * _R * temperature_k
+    raise ThermoError(f"unknown standard state {standard_state!r}; use one of {', '.join(STANDARD_STATES)}")
+
+
+# ========================================================================================
+# Result and driver
+# ========================================================================================
+@dataclass
+class Contribution:
+    """One kind of motion: thermal energy (incl. ZPE for vibration), enthalpy, entropy, Cv."""
+
+    energy_hartree: float
+    enthalpy_hartree: float
+    entropy_j_mol_k: float
+    heat_capacity_j_mol_k: float
+    minus_ts_hartree: float
+
+    @property
+    def gibbs_hartree(self) -> float:
+        return self.enthalpy_hartree + self.minus_ts_hartree
+
+
+@dataclass
+class ThermoResult:
+    temperature_k: float
+    pressure_pa: float
+    standard_state: str
+    qrrho: str
+    symmetry_number: int
+    symmetry_number_source: str  # "geometry" or "given"
+    point_group: str | None
+    linear: bool
+    multiplicity: int
+    frequency_scale: float
+    masses: str
+    mass_amu: float
+    moments_amu_a2: list[float]
+    n_imaginary: int
+    imaginary_cm1: list[float]
+    wavenumbers_used_cm1: list[float]  # real, scaled (and raised for "truhlar") modes entering Q_vib
+    zpe_hartree: float
+    thermal_energy_correction_hartree: float  # U(T) - E_el, including the ZPE
+    enthalpy_correction_hartree: float  # H(T) - E_el
+    gibbs_correction_hartree: float  # G(T) - E_el
+    entropy_j_mol_k: float
+    heat_capacity_cv_j_mol_k: float
+    contributions: dict[str, Contribution]
+    modes: list[dict[str, float]] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def entropy_hartree_per_k(self) -> float:
+        return self.entropy_j_mol_k / _J_MOL_PER_HARTREE
+
+    def to_dict(self, *, with_modes: bool = False) -> dict[str, Any]:
+        d = asdict(self)
+        d["contributions"] = {
+            k: asdict(v) | {"gibbs_hartree": v.gibbs_hartree} for k, v in self.contributions.items()
+        }
+        if not with_modes:
+            d.pop("modes")
+        return d
+
+    def contributions_table(self) -> str:
+        """A table a person can read: E, H, S, Cv and -TS per kind of motion, kJ/mol and J/(mol K)."""
+        kj = units.HARTREE_KJ_MOL
+        head = f"{'':14s}{'E(T) kJ/mol':>13s}{'H(T) kJ/mol':>13s}{'S J/(mol K)':>13s}{'Cv J/(mol K)':>14s}{'-TS kJ/mol':>12s}"
+        lines = [
+            f"T = {self.temperature_k:.2f} K, p = {self.pressure_pa:.6g} Pa ({self.standard_state}), "
+            f"symmetry number {self.symmetry_number} ({self.point_group or 'given'}), qRRHO: {self.qrrho}",
+            head,
+            "-" * len(head),
+        ]
+        total = Contribution(0.0, 0.0, 0.0, 0.0, 0.0)
+        for name, c in self.contributions.items():
+            lines.append(
+                f"{name:14s}{c.energy_hartree * kj:13.3f}{c.enthalpy_hartree * kj:13.3f}"
+                f"{c.entropy_j_mol_k:13.3f}{c.heat_capacity_j_mol_k:14.3f}{c.minus_ts_hartree * kj:12.3f}"
+            )
+            total = Contribution(
+                total.energy_hartree + c.energy_hartree,
+                total.enthalpy_hartree + c.enthalpy_hartree,
+                total.entropy_j_mol_k + c.entropy_j_mol_k,
+                total.heat_capacity_j_mol_k + c.heat_capacity_j_mol_k,
+                total.minus_ts_hartree + c.minus_ts_hartree,
+            )
+        lines.append("-" * len(head))
+        lines.append(
+            f"{'total':14s}{total.energy_hartree * kj:13.3f}{total.enthalpy_hartree * kj:13.3f}"
+            f"{total.entropy_j_mol_k:13.3f}{total.heat_capacity_j_mol_k:14.3f}{total.minus_ts_hartree * kj:12.3f}"
+        )
+        lines.append(f"ZPE {self.zpe_hartree * kj:.3f} kJ/mol (included in the vibrational E and H)")
+        return "\n".join(lines)
+
+
+def rrho(
+    elements: Sequence[str],
+    coordinates_angstrom,
+    wavenumbers_cm1: Sequence[float],
+    multiplicity: int,
+    temperature_k: float,
+    *,
+    pressure_pa: float | None = None,
+    standard_state: str = "1atm",
+    qrrho: str = "none",
+    symmetry_number: int | None = None,
+    frequency_scale: float = 1.0,
+    masses: str = "isotopic",
+    masses_amu: Sequence[float] | None = None,
+    symmetry_tolerance_angstrom: float = SYMMETRY_TOLERANCE_ANGSTROM,
+    grimme_w0_cm1: float = GRIMME_W0_CM1,
+    grimme_alpha: int = GRIMME_ALPHA,
+    grimme_bav_kg_m2: float = GRIMME_BAV_KG_M2,
+    truhlar_raise_cm1: float = TRUHLAR_RAISE_CM1,
+    check_mode_count: bool = True,
+) -> ThermoResult:
+    """Ideal-gas RRHO (or quasi-RRHO) thermal corrections of one molecule.
+
+    wavenumbers_cm1: the 3N-6 (3N-5 if linear) normal modes, imaginary ones as negative
+    numbers; those are left out of the partition function (a transition state's reaction
+    coordinate) and counted in `n_imaginary`. All wavenumbers are multiplied by
+    `frequency_scale` first (ZPE, enthalpy and entropy alike).
+    pressure_pa, when given, sets the pressure of the translational entropy and overrides
+    `standard_state`; otherwise the standard state's pressure is used (1M = c R T).
+    qrrho: "none" (harmonic), "grimme" (entropy interpolated, Grimme 2012; energies harmonic),
+    "truhlar" (real modes below 100 cm-1 raised to 100 cm-1 in the whole vibrational
+    partition function, Ribeiro et al. 2011).
+    The corrections are relative to the electronic energy at the well bottom:
+    H = E_el + ZPE + E_t + E_r + E_v(T) + k T; G = H - T S (Ochterski 2000, section 4).
+    """
+    if qrrho not in QRRHO_METHODS:
+        raise ThermoError(f"unknown qRRHO treatment {qrrho!r}; use one of {', '.join(QRRHO_METHODS)}")
+    if not (temperature_k > 0 and math.isfinite(temperature_k)):
+        raise ThermoError(f"temperature must be positive, got {temperature_k} K")
+    if not (frequency_scale > 0):
+        raise ThermoError(f"frequency scale factor must be positive, got {frequency_scale}")
+    if multiplicity is None or int(multiplicity) < 1:
+        raise ThermoError(f"spin multiplicity must be a positive integer, got {multiplicity}")
+    x = np.asarray(coordinates_angstrom, dtype=float).reshape(-1, 3)
+    n_atoms = len(x)
+    if n_atoms == 0 or len(elements) != n_atoms:
+        raise ThermoError(f"{len(elements)} elements but {n_atoms} coordinates")
+    m_amu = list(masses_amu) if masses_amu is not None else atomic_masses_amu(elements, masses)
+    mass_total = float(sum(m_amu))
+
+    if pressure_pa is not None:
+        if not pressure_pa > 0:
+            raise ThermoError(f"pressure must be positive, got {pressure_pa} Pa")
+        p = float(pressure_pa)
+        state_label = f"{p:.6g} Pa"
+    else:
+        p = standard_state_pressure_pa(standard_state, temperature_k)
+        state_label = standard_state
+
+    moments, _ = principal_moments_amu_a2(m_amu, x)
+    linear = n_atoms > 1 and _is_linear(moments, n_atoms)
+    notes: list[str] = []
+    point_group = None
+    if n_atoms == 1:
+        sigma, source = 1, "monatomic"
+        point_group = "K"
+    elif symmetry_number is not None:
+        if int(symmetry_number) < 1:
+            raise ThermoError(f"symmetry number must be a positive integer, got {symmetry_number}")
+        sigma, source = int(symmetry_number), "given"
+    else:
+        info = detect_symmetry(elements, x, masses_amu=m_amu, tolerance_angstrom=symmetry_tolerance_angstrom)
+        sigma, source, point_group = info.symmetry_number, "geometry", info.point_group
+
+    expected = 0 if n_atoms == 1 else (3 * n_atoms - 5 if linear else 3 * n_atoms - 6)
+    waves = [float(w) for w in wavenumbers_cm1]
+    if check_mode_count and len(waves) != expected:
+        raise ThermoError(
+            f"expected {expected} vibrational wavenumbers (3N-{5 if linear else 6} for "
+            f"{'a linear' if linear else 'a nonlinear'} molecule of {n_atoms} atoms), got {len(waves)}; "
+            "translations and rotations must be removed"
+        )
+    imaginary = [w for w in waves if w < 0]
+    real = [w * frequency_scale for w in waves if w > 0]
+    if any(w == 0 for w in waves):
+        notes.append(f"{sum(1 for w in waves if w == 0)} zero wavenumber(s) left out")
+    if imaginary:
+        notes.append(f"{len(imaginary)} imaginary mode(s) left out of the vibrational partition function")
+    used = [max(w, truhlar_raise_cm1) for w in real] if qrrho == "truhlar" else list(real)
+    if qrrho == "truhlar":
+        n_raised = sum(1 for w in real if w < truhlar_raise_cm1)
+        notes.append(f"{n_raised} mode(s) below {truhlar_raise_cm1:g} cm-1 raised to {truhlar_raise_cm1:g} cm-1")
+
+    t = float(temperature_k)
+    rt_hartree = _R * t / _J_MOL_PER_HARTREE
+    # translation (McQuarrie 1976, eqs 5-17 to 5-20): E = 3/2 RT, H = 5/2 RT, Cv = 3/2 R
+    s_t = translational_entropy_j_mol_k(mass_total, t, p)
+    trans = Contribution(1.5 * rt_hartree, 2.5 * rt_hartree, s_t, 1.5 * _R, -t * s_t / _J_MOL_PER_HARTREE)
+    # rotation (McQuarrie 1976, eqs 6-51, 8-60): E = RT (linear) or 3/2 RT
+    if n_atoms == 1:
+        rot = Contribution(0.0, 0.0, 0.0, 0.0, 0.0)
+    else:
+        s_r = rotational_entropy_j_mol_k(moments, t, sigma, linear)
+        e_r = (1.0 if linear else 1.5) * rt_hartree
+        c_r = (1.0 if linear else 1.5) * _R
+        rot = Contribution(e_r, e_r, s_r, c_r, -t * s_r / _J_MOL_PER_HARTREE)
+    # vibration
+    modes = []
+    zpe = e_v = s_v = c_v = 0.0
+    for w0, w in zip(real, used):
+        z = harmonic_zpe_j_mol(w)
+        e = harmonic_thermal_energy_j_mol(w, t)
+        s_ho = harmonic_entropy_j_mol_k(w, t)
+        c = harmonic_heat_capacity_j_mol_k(w, t)
+        if qrrho == "grimme":
+            weight = grimme_weight(w, grimme_w0_cm1, grimme_alpha)
+            s_fr = free_rotor_entropy_j_mol_k(w, t, grimme_bav_kg_m2)
+            s = weight * s_ho + (1.0 - weight) * s_fr
+            modes.append({"wavenumber_cm1": w0, "used_cm1": w, "entropy_harmonic_j_mol_k": s_ho,
+                          "entropy_free_rotor_j_mol_k": s_fr, "weight": weight, "entropy_j_mol_k": s})
+        else:
+            s = s_ho
+            modes.append({"wavenumber_cm1": w0, "used_cm1": w, "entropy_j_mol_k": s})
+        zpe += z
+        e_v += e
+        s_v += s
+        c_v += c
+    zpe_h = zpe / _J_MOL_PER_HARTREE
+    vib_e = zpe_h + e_v / _J_MOL_PER_HARTREE
+    vib = Contribution(vib_e, vib_e, s_v, c_v, -t * s_v / _J_MOL_PER_HARTREE)
+    # electronic: spin degeneracy only (Ochterski 2000, eqs 12-14), S = R ln(2S+1)
+    s_e = _R * math.log(int(multiplicity))
+    elec = Contribution(0.0, 0.0, s_e, 0.0, -t * s_e / _J_MOL_PER_HARTREE)
+
+    contributions = {"translational": trans, "rotational": rot, "vibrational": vib, "electronic": elec}
+    u_corr = sum(c.energy_hartree for c in contributions.values())
+    h_corr = sum(c.enthalpy_hartree for c in contributions.values())
+    s_tot = sum(c.entropy_j_mol_k for c in contributions.values())
+    cv_tot = sum(c.heat_capacity_j_mol_k for c in contributions.values())
+    g_corr = h_corr - t * s_tot / _J_MOL_PER_HARTREE
+    return ThermoResult(
+        temperature_k=t,
+        pressure_pa=p,
+        standard_state=state_label,
+        qrrho=qrrho,
+        symmetry_number=sigma,
+        symmetry_number_source=source,
+        point_group=point_group,
+        linear=linear,
+        multiplicity=int(multiplicity),
+        frequency_scale=float(frequency_scale),
+        masses="given" if masses_amu is not None else masses,
+        mass_amu=mass_total,
+        moments_amu_a2=[float(v) for v in moments],
+        n_imaginary=len(imaginary),
+        imaginary_cm1=imaginary,
+        wavenumbers_used_cm1=used,
+        zpe_hartree=zpe_h,
+        thermal_energy_correction_hartree=u_corr,
+        enthalpy_correction_hartree=h_corr,
+        gibbs_correction_hartree=g_corr,
+        entropy_j_mol_k=s_tot,
+        heat_capacity_cv_j_mol_k=cv_tot,
+        contributions=contributions,
+        modes=modes,
+        notes=notes,
+    )
+
+
+def standard_state_correction_kj_mol(temperature_k: float, to_state: str = "1M", from_state: str = "1atm") -> float:
+    """G(to) - G(from) of an ideal gas: R T ln(p_to / p_from); 1 atm -> 1 M at 298.15 K is
+    R T ln(24.46) = +7.92 kJ/mol (Cramer 2004, section 10.3)."""
+    p_to = standard_state_pressure_pa(to_state, temperature_k)
+    p_from = standard_state_pressure_pa(from_state, temperature_k)
+    return _R * temperature_k * math.log(p_to / p_from) / 1000.0
+
+
+def thermo_from_record(calc, temperature_k: float, **kw) -> ThermoResult:
+    """`rrho` on a `dossier.records.Calculation` (its final geometry, modes and multiplicity)."""
+    where = getattr(getattr(calc, "source", None), "path", None)
+    if calc.vibrations is None or not calc.vibrations.wavenumbers_cm1:
+        if calc.n_atoms != 1:
+            raise ThermoError("no vibrational frequencies in this file; thermochemistry needs a frequency job", where)
+    if not calc.coordinates_angstrom:
+        raise ThermoError("no geometry in this file", where)
+    given = kw.pop("multiplicity", None)
+    mult = calc.multiplicity if calc.multiplicity is not None else given
+    if mult is None:
+        raise ThermoError("the spin multiplicity is not in this file; give it explicitly", where)
+    try:
+        return rrho(
+            calc.elements,
+            calc.coordinates_angstrom,
+            calc.vibrations.wavenumbers_cm1 if calc.vibrations else [],
+            mult,
+            temperature_k,
+            **kw,
+        )
+    except ThermoError as exc:
+        if exc.where is None and where is not None:
+            raise ThermoError(exc.reason, where) from None
+        raise
