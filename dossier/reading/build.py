@@ -56,6 +56,9 @@ def finalize(calc: Calculation) -> None:
         kinds.insert(0, "single-point")
     calc.job_kinds = kinds
 
+    for st in calc.excited_states:
+        st.symmetry = normalize_state_label(st.symmetry)
+
     # Real normal modes only: 3N-6 (3N-5 linear); drop translation/rotation rows (smallest |v|)
     vib = calc.vibrations
     if vib and calc.elements:
@@ -121,3 +124,21 @@ def withhold(calc: Calculation) -> None:
     calc.s2 = None
     if "optimization" not in calc.job_kinds:
         calc.optimization_energies_hartree = []
+
+
+_SPIN_WORDS = ("singlet", "doublet", "triplet", "quartet", "quintet")
+
+
+def normalize_state_label(label: str | None) -> str | None:
+    """'singlet bu', 'Singlet-BU', 'Singlet-Bu' -> 'Singlet-Bu' (spin word, then the irrep)."""
+    if not label:
+        return label
+    parts = re.split(r"[\s-]+", label.strip(), maxsplit=1)
+    if parts[0].lower() in _SPIN_WORDS:
+        spin = parts[0].capitalize()
+        if len(parts) == 1 or not parts[1]:
+            return spin
+        irrep = parts[1]
+        irrep = irrep[0].upper() + irrep[1:].lower() if irrep[:1].isalpha() else irrep
+        return f"{spin}-{irrep}"
+    return label

@@ -211,8 +211,12 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
 
     # Populations
     for scheme, values in (_get(data, "atomcharges", {}) or {}).items():
+        if scheme.endswith("_sum"):  # hydrogens summed into heavy atoms: not a per-atom scheme
+            continue
         calc.charges[_scheme(scheme)] = _floats(values)
     for scheme, values in (_get(data, "atomspins", {}) or {}).items():
+        if scheme.endswith("_sum"):
+            continue
         calc.spin_populations[_scheme(scheme)] = _floats(values)
 
     # Excited states
