@@ -267,6 +267,25 @@ def gmh_coupling_from_vectors_cm1(transition_dipole_vec, dipole_difference_vec, 
     return float(gmh_coupling_cm1(mu12, norm, vertical_gap_cm1))
 
 
+def transition_dipole_from_oscillator_au(oscillator_strength, energy_cm1):
+    """|mu_12| (e bohr) from an oscillator strength: f = (2/3) dE |mu_12|^2 in atomic units.
+    Source: R. C. Hilborn, Am. J. Phys. 1982, 50, 982 (oscillator strength and dipole moment)."""
+    f = np.asarray(oscillator_strength, dtype=float)
+    de = np.asarray(energy_cm1, dtype=float) / u.HARTREE_CM1
+    return _out(np.sqrt(1.5 * f / de))
+
+
+def mulliken_hush_coupling_cm1(transition_dipole_au, vertical_gap_cm1, distance_angstrom):
+    """Mulliken–Hush coupling H_ab = mu_12 dE_12 / (e r_ab), cm-1, with the diabatic dipole difference
+    taken as one electron moved over the site distance r_ab (mu_12 in e bohr, r_ab in angstrom).
+    Source: N. S. Hush, Prog. Inorg. Chem. 1967, 8, 391; C. Creutz, M. D. Newton, N. Sutin,
+    J. Photochem. Photobiol. A 1994, 82, 47. The geometric distance usually exceeds the effective
+    charge-transfer distance, so this tends to underestimate H_ab."""
+    mu = np.abs(np.asarray(transition_dipole_au, dtype=float))
+    r_bohr = np.asarray(distance_angstrom, dtype=float) / u.BOHR_ANGSTROM
+    return _out(mu * np.asarray(vertical_gap_cm1, dtype=float) / r_bohr)
+
+
 def hush_transition_dipole_prefactor_debye() -> float:
     """mu_12 (D) = P x (eps_max dnu_1/2 / nu_max)^1/2 for a Gaussian band; returns P (about 0.0988).
 
@@ -528,3 +547,54 @@ def arrhenius_fit(temperatures_k, rates_per_s) -> dict:
     return {"ea_kj_mol": float(-slope * u.GAS_CONSTANT_J_MOL_K / 1000.0),
             "log10_a_per_s": float(intercept / math.log(10.0)),
             "n_points": int(t.size), "t_min_k": float(t.min()), "t_max_k": float(t.max())}
+
+
+# ---------------------------------------------------------------------------
+# Normal-mode analysis of the reorganization (harmonic, displaced oscillators)
+# ---------------------------------------------------------------------------
+def mode_reorganization_kj_mol(masses_amu, reactant_angstrom, product_angstrom, wavenumbers_cm1, displacements):
+    """Per-mode reorganization energies lambda_j = (1/2) omega_j^2 Q_j^2, kJ/mol, of the reactant's
+    harmonic surface displaced to the product geometry.
+
+    Q_j = l_j . M^1/2 (R_P - R_R), with l_j the mass-weighted, normalized mode vector built from the
+    printed Cartesian displacements d_j (l_j ~ M^1/2 d_j); R_P must already be superposed on R_R.
+    Sum_j lambda_j is the harmonic estimate of E(R@P) - E(R@R); lambda_j / (h c nu_j) is the
+    Huang–Rhys factor of mode j. Source: K. Huang, A. Rhys, Proc. R. Soc. A 1950, 204, 406;
+    J. R. Reimers, J. Chem. Phys. 2001, 115, 9103 (displacement projection, Duschinsky rotation neglected).
+    Imaginary and zero modes give 0. Returns an array (one value per mode).
+    """
+    m = np.asarray(masses_amu, dtype=float)
+    dr = np.asarray(product_angstrom, dtype=float) - np.asarray(reactant_angstrom, dtype=float)
+    sq = np.sqrt(m)[:, None]
+    dq = (sq * dr).ravel()  # amu^1/2 angstrom
+    out = []
+    for w, d in zip(wavenumbers_cm1, displacements):
+        vec = (sq * np.asarray(d, dtype=float)).ravel()
+        norm = np.linalg.norm(vec)
+        if w <= 0 or norm == 0:
+            out.append(0.0)
+            continue
+        q = float(vec @ dq / norm) * math.sqrt(u.ATOMIC_MASS_KG) * u.ANGSTROM_M  # kg^1/2 m
+        omega = 2.0 * u.PI * u.SPEED_OF_LIGHT_M_S * w * u.CM1_TO_M1  # rad s-1
+        out.append(0.5 * omega**2 * q**2 / u.KJ_MOL_J)
+    return np.asarray(out, dtype=float)
+
+
+def effective_mode_cm1(mode_lambdas_kj_mol, wavenumbers_cm1) -> float | None:
+    """Reorganization-weighted mean wavenumber of a set of modes, sum lambda_j nu_j / sum lambda_j,
+    the usual single effective mode of the Marcus–Levich–Jortner rate (e.g. P. F. Barbara, T. J. Meyer,
+    M. A. Ratner, J. Phys. Chem. 1996, 100, 13148; from memory). None when every lambda_j is 0."""
+    lam = np.asarray(mode_lambdas_kj_mol, dtype=float)
+    w = np.asarray(wavenumbers_cm1, dtype=float)
+    total = float(lam.sum())
+    return None if total <= 0 else float((lam * w).sum() / total)
+
+
+def nuclear_frequency_cm1(mode_lambdas_kj_mol, wavenumbers_cm1) -> float | None:
+    """Effective nuclear frequency (as a wavenumber) of the barrier crossing,
+    nu_n = (sum lambda_j nu_j^2 / sum lambda_j)^1/2. Source: N. Sutin, Prog. Inorg. Chem. 1983, 30, 441
+    (nu_n^2 = (nu_out^2 lambda_out + nu_in^2 lambda_in) / (lambda_out + lambda_in)). None when every lambda_j is 0."""
+    lam = np.asarray(mode_lambdas_kj_mol, dtype=float)
+    w = np.asarray(wavenumbers_cm1, dtype=float)
+    total = float(lam.sum())
+    return None if total <= 0 else float(math.sqrt((lam * w**2).sum() / total))

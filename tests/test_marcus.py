@@ -225,3 +225,45 @@ def test_arrhenius_fit_recovers_parameters():
     assert fe["ea_kj_mol"] == pytest.approx(30.0 + C.R * 300.0 / 1000, rel=2e-3)
     with pytest.raises(ValueError):
         m.arrhenius_fit([300.0], [1.0])
+
+
+# --- transition dipoles, Mulliken–Hush, normal-mode reorganization ------------------------
+def test_transition_dipole_from_oscillator_strength_matches_pyscf():
+    # Reference library: PySCF TDA on water (STO-3G) prints both f and the transition dipole;
+    # f = 2/3 dE |mu|^2 (Hilborn 1982) must connect them.
+    pytest.importorskip("pyscf")
+    from pyscf import gto, scf, tdscf
+
+    mol = gto.M(atom="O 0 0 0; H 0 0.757 0.587; H 0 -0.757 0.587", basis="sto-3g", verbose=0)
+    mf = scf.RHF(mol).run()
+    td = tdscf.TDA(mf).run(nstates=3)
+    f = td.oscillator_strength(gauge="length")
+    mu = np.linalg.norm(td.transition_dipole(), axis=1)
+    e_cm1 = td.e * C.physical_constants["hartree-inverse meter relationship"][0] / 100
+    for k in range(3):
+        if f[k] > 1e-4:
+            assert m.transition_dipole_from_oscillator_au(f[k], e_cm1[k]) == pytest.approx(mu[k], rel=1e-6)
+
+
+def test_mulliken_hush_is_gmh_with_diabatic_dipole_difference():
+    # Cave & Newton 1996: the diabatic dipole difference is sqrt(dmu12^2 + 4 mu12^2); setting it to e r_ab
+    # (Hush) turns GMH into Mulliken-Hush, H = mu12 dE / (e r_ab).
+    mu12, de, r = 0.8, 9000.0, 4.9
+    r_bohr = r / (C.physical_constants["Bohr radius"][0] * 1e10)
+    dmu12 = math.sqrt(r_bohr**2 - 4 * mu12**2)
+    assert m.mulliken_hush_coupling_cm1(mu12, de, r) == pytest.approx(m.gmh_coupling_cm1(mu12, dmu12, de), rel=1e-12)
+
+
+def test_mode_reorganization_of_a_diatomic_oscillator():
+    # Textbook harmonic oscillator: stretching H2 by dr costs (1/2) mu omega^2 dr^2 (CODATA amu, c, N_A).
+    masses = [1.008, 1.008]
+    r = [[0, 0, 0], [0, 0, 0.74]]
+    p = [[0, 0, -0.01], [0, 0, 0.75]]
+    nu = 4400.0
+    lam = m.mode_reorganization_kj_mol(masses, r, p, [nu], [[[0, 0, -0.3], [0, 0, 0.3]]])
+    mu = 1.008 / 2 * C.atomic_mass
+    omega = 2 * math.pi * C.c * nu * 100
+    expected = 0.5 * mu * omega**2 * (0.02e-10) ** 2 * C.N_A / 1000
+    assert lam[0] == pytest.approx(expected, rel=1e-10)
+    assert m.effective_mode_cm1([1.0, 3.0], [1000.0, 1600.0]) == pytest.approx(1450.0)
+    assert m.nuclear_frequency_cm1([1.0, 1.0], [300.0, 400.0]) == pytest.approx(math.sqrt(125000.0))
