@@ -1,0 +1,458 @@
+"""HTML and PDF of the dossier, from the result dict and the figures only.
+
+Templates live in ``templates/`` (one file per section, a base and a stylesheet) and are
+rendered by a jinja2 ``SandboxedEnvironment`` with autoescaping on, so user text (titles,
+state names, notes) is escaped everywhere and user templates (``--templates DIR``, which
+override the built-in files of the same name) cannot reach Python internals.
+
+The HTML is self-contained: stylesheet and SVG figures inline, no scripts, fonts or
+images from elsewhere. A user template that refers to an outside resource is refused
+(images inside the user's template folder are embedded as data URIs instead). The PDF is
+made by WeasyPrint with a URL fetcher that refuses the network and every path outside
+the build folder.
+"""
+from __future__ import annotations
+
+import base64
+import html.parser
+import math
+import mimetypes
+import re
+from pathlib import Path
+from typing import Any
+from urllib.parse import unquote, urlparse
+
+import jinja2
+from jinja2.sandbox import SandboxedEnvironment
+from markupsafe import Markup
+
+from dossier import __version__, units
+from dossier.errors import BuildError
+from dossier.exports import cited_works, state_energy_hartree
+from dossier.figures import FigureOut, preferred_scheme, profile_quantity, report_temperature, unit_label
+
+TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"
+
+#: Section templates in document order: (file, anchor id, title).
+SECTIONS = [
+    ("summary.html", "summary", "Summary for experimental collaborators"),
+    ("checks.html", "checks", "Check findings"),
+    ("methods.html", "methods", "Computational details"),
+    ("energies.html", "energies", "Energies and isomer populations"),
+    ("localization.html", "localization", "Where the electron sits"),
+    ("marcus.html", "marcus", "Electron-transfer parameters"),
+    ("rates.html", "rates", "Rate estimates and method ladder"),
+    ("experiment.html", "experiment", "Comparison with experiment"),
+    ("states.html", "states", "States: structures, energies, frequencies"),
+    ("provenance.html", "provenance", "Provenance of every number"),
+    ("references.html", "references", "References"),
+]
+
+_SUPERSCRIPT = str.maketrans("0123456789-+", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺")
+
+
+# -- number formatting (used by templates and by the tests that compare with the PDF) --------
+
+def fmt_num(x: Any, digits: int = 1) -> str:
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return "–"
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return str(x)
+    text = f"{x:.{digits}f}"
+    return "0." + "0" * digits if text.lstrip("-").strip("0.") == "" and digits > 0 else text
+
+
+def fmt_rate(x: Any) -> str:
+    """A rate in s-1 as 'm.m × 10ⁿ' (two significant digits)."""
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x) or x <= 0:
+        return "–"
+    exp = math.floor(math.log10(x))
+    mant = x / 10**exp
+    if round(mant, 1) >= 10.0:
+        exp += 1
+        mant = x / 10**exp
+    return f"{mant:.1f} × 10{str(exp).translate(_SUPERSCRIPT)}"
+
+
+def fmt_coordinate(x: Any) -> str:
+    return fmt_num(x, 6)
+
+
+def fmt_hartree(x: Any) -> str:
+    return fmt_num(x, 6)
+
+
+def fmt_sha(text: str | None) -> str:
+    return text or "–"
+
+
+class Numberer:
+    """Supplement numbering: Table S1, Figure S1 ... in order of first use; same key, same number."""
+
+    def __init__(self) -> None:
+        self._tables: dict[str, int] = {}
+        self._figures: dict[str, int] = {}
+
+    def table(self, key: str) -> str:
+        return f"Table S{self._tables.setdefault(str(key), len(self._tables) + 1)}"
+
+    def figure(self, key: str) -> str:
+        return f"Figure S{self._figures.setdefault(str(key), len(self._figures) + 1)}"
+
+    @property
+    def counts(self) -> dict[str, int]:
+        return {"tables": len(self._tables), "figures": len(self._figures)}
+
+
+# -- environment ----------------------------------------------------------------------------
+
+def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
+    loaders = []
+    if templates_dir is not None:
+        templates_dir = Path(templates_dir)
+        if not templates_dir.is_dir():
+            raise BuildError("template folder does not exist", where=str(templates_dir))
+        loaders.append(jinja2.FileSystemLoader(str(templates_dir)))
+    loaders.append(jinja2.FileSystemLoader(str(TEMPLATES_DIR)))
+    env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
+                               trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True)
+    env.filters.update(num=fmt_num, rate=fmt_rate, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
+                       sci=lambda x: "–" if x is None else f"{x:.2e}")
+    return env
+
+
+# -- view model: plain words and grouped tables computed here, not in templates ---------------
+
+def _energy(value_kj_mol: Any, unit: str) -> float | None:
+    return None if value_kj_mol is None else units.kj_mol_to(float(value_kj_mol), unit)
+
+
+def _digits(unit: str) -> int:
+    return 3 if unit == "eV" else 1
+
+
+def _state_by_name(data: dict) -> dict[str, dict]:
+    return {s["name"]: s for s in data.get("states", [])}
+
+
+def _headline_model(pw: dict) -> str | None:
+    exp = (pw.get("experiment") or {}).get("rates") or []
+    for e in exp:
+        if e.get("computed_model"):
+            return e["computed_model"]
+    models = [r.get("model") for r in pw.get("rates", [])]
+    return models[0] if models else None
+
+
+def _where_electron(state: dict | None, scheme: str | None) -> dict:
+    if not state:
+        return {"site": None}
+    loc = state.get("localization") or {}
+    site = loc.get("site_of_electron")
+    sch = (loc.get("schemes") or {}).get(scheme or "", {}) if scheme else {}
+    spin = (sch.get("spin_by_site") or {}).get(site) if site else None
+    return {"site": site, "spin": spin, "scheme": scheme, "agree": loc.get("indicators_agree"),
+            "geometry_site": (loc.get("geometry") or {}).get("site_of_electron"), "notes": loc.get("notes") or []}
+
+
+def summary_view(data: dict) -> list[dict]:
+    """Per pathway: the facts the plain-words summary states."""
+    unit = (data.get("project") or {}).get("energy_unit", "kJ/mol")
+    states = _state_by_name(data)
+    scheme = preferred_scheme(data.get("states", []))
+    out = []
+    for pw in data.get("pathways", []):
+        model = _headline_model(pw)
+        rates = sorted((r for r in pw.get("rates", []) if r.get("model") == model), key=lambda r: r.get("temperature_k", 0))
+        out.append({
+            "pathway": pw,
+            "reactant": _where_electron(states.get(pw.get("reactant")), scheme),
+            "product": _where_electron(states.get(pw.get("product")), scheme),
+            "ts": _where_electron(states.get(pw.get("transition_state")), scheme),
+            "barrier": _energy(pw.get("barrier_kj_mol"), unit),
+            "driving_force": _energy(pw.get("delta_g0_kj_mol"), unit),
+            "model": model,
+            "rates": rates,
+            "experiment": (pw.get("experiment") or {}).get("rates") or [],
+            "band": (pw.get("experiment") or {}).get("band"),
+        })
+    return out
+
+
+def methods_view(data: dict) -> dict:
+    """Programs, levels of theory and treatments, grouped from the sources."""
+    programs: dict[tuple, list[str]] = {}
+    levels: dict[str, dict] = {}
+    for src in data.get("sources", []):
+        programs.setdefault((src.get("program") or "unknown program", src.get("program_version") or "version not printed"), []).append(src["path"])
+        label = src.get("level_of_theory") or "level not recorded"
+        entry = levels.setdefault(label, {"label": label, "level": src.get("level") or {}, "jobs": set(), "files": 0})
+        entry["jobs"].update(src.get("job_kinds") or [])
+        entry["files"] += 1
+    lv = []
+    for entry in levels.values():
+        entry = dict(entry)
+        entry["jobs"] = sorted(entry["jobs"])
+        lv.append(entry)
+    lv.sort(key=lambda e: (-e["files"], e["label"]))
+
+    def distinct(field: str) -> list[str]:
+        seen = []
+        for e in lv:
+            v = (e["level"] or {}).get(field)
+            if v and v not in seen:
+                seen.append(v)
+        return seen
+
+    refs = cited_works(data)
+    number = {r["key"]: i + 1 for i, r in enumerate(refs)}
+    return {
+        "programs": [{"program": p, "version": v, "files": len(f)} for (p, v), f in sorted(programs.items())],
+        "levels": lv,
+        "functionals": distinct("functional"), "methods": distinct("method"), "basis_sets": distinct("basis"),
+        "dispersion": distinct("dispersion"), "solvation": distinct("solvation"),
+        "references": refs, "ref_number": number,
+    }
+
+
+def cite(view: dict, *keys: str) -> str:
+    nums = sorted({view["ref_number"][k] for k in keys if k in view["ref_number"]})
+    return f"[{', '.join(str(n) for n in nums)}]" if nums else ""
+
+
+def cite_for(view: dict, kind: str, name: str) -> str:
+    from dossier import exports
+
+    finder = {"functional": exports._functional_keys, "method": exports._method_keys, "basis": exports._basis_keys,
+              "dispersion": exports._dispersion_keys, "solvation": exports._solvation_keys,
+              "program": lambda n: [exports._PROGRAM_KEYS.get(n.lower(), "")]}[kind]
+    return cite(view, *finder(name or ""))
+
+
+def profile_table(profile: dict, unit: str) -> dict:
+    temps = sorted({t for p in profile.get("points", []) for t in (p.get("gibbs_kj_mol") or {})}, key=float)
+    rows = []
+    for p in profile.get("points", []):
+        rows.append({"state": p["state"], "electronic": _energy(p.get("electronic_kj_mol"), unit),
+                     "zpe": _energy(p.get("zpe_kj_mol"), unit),
+                     "enthalpy": [_energy((p.get("enthalpy_kj_mol") or {}).get(t), unit) for t in temps],
+                     "gibbs": [_energy((p.get("gibbs_kj_mol") or {}).get(t), unit) for t in temps]})
+    return {"temperatures": [float(t) for t in temps], "rows": rows}
+
+
+def localization_rows(data: dict) -> list[dict]:
+    out = []
+    for st in data.get("states", []):
+        loc = st.get("localization") or {}
+        for name, sch in sorted((loc.get("schemes") or {}).items()):
+            out.append({"state": st["name"], "scheme": name, "spin": sch.get("spin_by_site") or {},
+                        "charge": sch.get("charge_by_site") or {}, "index": sch.get("localization_index"),
+                        "site": sch.get("site_of_electron")})
+    return out
+
+
+def sites_in(data: dict) -> list[str]:
+    seen: list[str] = []
+    for st in data.get("states", []):
+        for sch in ((st.get("localization") or {}).get("schemes") or {}).values():
+            for s in list(sch.get("spin_by_site") or {}) + list(sch.get("charge_by_site") or {}):
+                if s not in seen:
+                    seen.append(s)
+    return seen
+
+
+def context(data: dict, figures: list[FigureOut]) -> dict:
+    project = data.get("project") or {}
+    unit = project.get("energy_unit", "kJ/mol")
+    checks = data.get("checks") or []
+    sev = {"error": 0, "warning": 1}
+    figs_by_section: dict[str, list[FigureOut]] = {}
+    figs_by_subject: dict[str, FigureOut] = {}
+    for f in figures:
+        figs_by_section.setdefault(f.section, []).append(f)
+        for k, v in f.subject.items():
+            figs_by_subject[f"{f.section}:{k}:{v}"] = f
+    present = {
+        "summary": True, "checks": True, "methods": True,
+        "energies": bool(data.get("energy_profiles") or data.get("isomer_populations")),
+        "localization": bool(localization_rows(data)),
+        "marcus": bool(data.get("pathways")), "rates": any(p.get("rates") or p.get("ladder") for p in data.get("pathways", [])),
+        "experiment": any(p.get("experiment") for p in data.get("pathways", [])),
+        "states": bool(data.get("states")), "provenance": True, "references": True,
+    }
+    sections = [{"file": f, "id": i, "title": t} for f, i, t in SECTIONS if present[i]]
+    for n, s in enumerate(sections, 1):
+        s["number"] = n
+    return {
+        "d": data, "project": project, "unit": unit, "unit_label": unit_label(unit), "digits": _digits(unit),
+        "t_ref": report_temperature(data),
+        "sections": sections, "section_number": {s["id"]: s["number"] for s in sections},
+        "num": Numberer(),
+        "figures": figs_by_section, "figure_for": figs_by_subject,
+        "svg": lambda f: Markup(f.svg),
+        "summary": summary_view(data), "methods": methods_view(data), "cite": cite, "cite_for": cite_for,
+        "profile_table": lambda p: profile_table(p, unit),
+        "energy": lambda v: _energy(v, unit),
+        "loc_rows": localization_rows(data), "sites": sites_in(data),
+        "checks": sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or "")),
+        "n_errors": sum(1 for c in checks if c.get("severity") == "error"),
+        "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),
+        "states_by_name": _state_by_name(data),
+        "state_energy": state_energy_hartree,
+        "dossier_version": __version__,
+    }
+
+
+def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | None = None) -> str:
+    """The whole dossier as one self-contained HTML page (raises BuildError on outside references)."""
+    env = make_environment(templates_dir)
+    try:
+        text = env.get_template("base.html").render(**context(data, figures))
+    except jinja2.TemplateNotFound as exc:
+        raise BuildError(f"template {exc.name!r} not found", where=str(templates_dir or TEMPLATES_DIR)) from exc
+    except jinja2.TemplateSyntaxError as exc:
+        raise BuildError(f"template syntax error: {exc.message}", where=f"{exc.filename or exc.name}:{exc.lineno}") from exc
+    except jinja2.exceptions.SecurityError as exc:
+        raise BuildError(f"template tried something the sandbox forbids: {exc}", where=str(templates_dir or TEMPLATES_DIR)) from exc
+    except jinja2.TemplateError as exc:
+        raise BuildError(f"template error: {exc}", where=str(templates_dir or TEMPLATES_DIR)) from exc
+    return embed_local_images(text, templates_dir)
+
+
+# -- self-containment -----------------------------------------------------------------------
+
+_URL_ATTRS = {"src", "href", "xlink:href", "srcset", "poster", "data", "action", "formaction", "background",
+              "cite", "longdesc", "usemap", "manifest", "icon", "ping", "lowsrc", "dynsrc"}
+_FORBIDDEN_TAGS = {"script", "iframe", "frame", "object", "embed", "base", "link", "applet", "portal"}
+_CSS_URL = re.compile(r"url\(\s*(['\"]?)(.*?)\1\s*\)|@import\s+(['\"])(.*?)\3", re.I | re.S)
+
+
+class _RefCollector(html.parser.HTMLParser):
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.refs: list[tuple[str, str]] = []  # (what, value)
+        self.tags: list[str] = []
+        self._in_style = False
+
+    def handle_starttag(self, tag, attrs):
+        tag = tag.lower()
+        if tag in _FORBIDDEN_TAGS:
+            self.tags.append(tag)
+        if tag == "meta" and any((k or "").lower() == "http-equiv" and (v or "").lower() == "refresh" for k, v in attrs):
+            self.tags.append("meta refresh")
+        for k, v in attrs:
+            k = (k or "").lower()
+            if v is None:
+                continue
+            if k in _URL_ATTRS:
+                self.refs.append((f"{tag} {k}", v.strip()))
+            elif k == "style":
+                self._css(v)
+            elif k.startswith("on"):
+                self.tags.append(f"{tag} {k} handler")
+        self._in_style = tag == "style"
+
+    def handle_endtag(self, tag):
+        self._in_style = False
+
+    def handle_data(self, data):
+        if self._in_style:
+            self._css(data)
+
+    def _css(self, text):
+        for m in _CSS_URL.finditer(text):
+            self.refs.append(("css url", (m.group(2) or m.group(4) or "").strip()))
+
+
+def _inside_ok(value: str) -> bool:
+    return value == "" or value.startswith("#") or value.lower().startswith("data:")
+
+
+def outside_references(text: str) -> list[str]:
+    """Every reference in the HTML that would load or link something outside the page."""
+    p = _RefCollector()
+    p.feed(text)
+    p.close()
+    bad = [f"<{t}>" for t in p.tags]
+    bad += [f"{what}={value!r}" for what, value in p.refs if not _inside_ok(value)]
+    return bad
+
+
+def embed_local_images(text: str, templates_dir: Path | None) -> str:
+    """Embed images of the user's template folder as data URIs; refuse every other outside reference."""
+    p = _RefCollector()
+    p.feed(text)
+    p.close()
+    if p.tags:
+        raise BuildError(f"template uses {p.tags[0]}, which a self-contained dossier cannot have",
+                         where=str(templates_dir or TEMPLATES_DIR))
+    root = Path(templates_dir).resolve() if templates_dir else None
+    for what, value in p.refs:
+        if _inside_ok(value):
+            continue
+        parsed = urlparse(value)
+        target = None
+        if root is not None and not parsed.scheme and not parsed.netloc and what.endswith(("src", "href")):
+            candidate = (root / unquote(parsed.path)).resolve()
+            if candidate.is_relative_to(root) and candidate.is_file() and (mimetypes.guess_type(candidate.name)[0] or "").startswith("image/"):
+                target = candidate
+        if target is None:
+            raise BuildError(f"template refers to {value!r} ({what}); the dossier embeds everything and loads no outside file or URL",
+                             where=str(templates_dir or TEMPLATES_DIR))
+        mime = mimetypes.guess_type(target.name)[0]
+        uri = f"data:{mime};base64,{base64.b64encode(target.read_bytes()).decode('ascii')}"
+        text = text.replace(f'"{value}"', f'"{uri}"').replace(f"'{value}'", f"'{uri}'")
+    return text
+
+
+# -- PDF --------------------------------------------------------------------------------------
+
+def _local_fetcher_class():
+    from weasyprint.urls import URLFetcher
+
+    class LocalOnlyFetcher(URLFetcher):
+        """Serves data: URIs and files inside one folder; refuses the network and everything else."""
+
+        def __init__(self, root: Path, **kwargs):
+            super().__init__(allowed_protocols=("data", "file"), **kwargs)
+            self.root = Path(root).resolve()
+            self.refused: list[str] = []
+
+        def fetch(self, url, headers=None):
+            scheme = url.split(":", 1)[0].lower() if ":" in url else ""
+            if scheme == "data":
+                return super().fetch(url, headers)
+            if scheme == "file":
+                path = Path(unquote(urlparse(url).path)).resolve()
+                if path.is_relative_to(self.root) and path.is_file():
+                    return super().fetch(url, headers)
+            self.refused.append(url)
+            raise ValueError(f"dossier fetches nothing outside its build folder: {url}")
+
+    return LocalOnlyFetcher
+
+
+def make_fetcher(root: Path):
+    return _local_fetcher_class()(root)
+
+
+def write_pdf(html_text: str, pdf_path: Path, root: Path) -> Path:
+    """Render the HTML to ``pdf_path`` (temporary name + rename); ``root`` bounds what may be read."""
+    import logging
+    import os
+    import tempfile
+
+    from weasyprint import HTML
+
+    pdf_path = Path(pdf_path)
+    fetcher = make_fetcher(root)
+    logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    fd, tmp = tempfile.mkstemp(prefix=f".{pdf_path.name}.", suffix=".part", dir=pdf_path.parent)
+    os.close(fd)
+    try:
+        HTML(string=html_text, base_url=Path(root).resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(tmp)
+        os.replace(tmp, pdf_path)
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+    return pdf_path
