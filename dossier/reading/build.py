@@ -63,7 +63,8 @@ def finalize(calc: Calculation) -> None:
     vib = calc.vibrations
     if vib and calc.elements:
         n = len(calc.elements)
-        expected = 3 * n - (5 if _is_linear(calc.coordinates_angstrom or [[0, 0, 0]] * n) else 6)
+        linear = _is_linear(calc.coordinates_angstrom) if calc.coordinates_angstrom else n <= 2
+        expected = 3 * n - (5 if linear else 6)
         order = list(range(len(vib.wavenumbers_cm1)))
         if len(order) > expected >= 0:
             by_size = sorted(order, key=lambda i: abs(vib.wavenumbers_cm1[i]))
@@ -77,6 +78,9 @@ def finalize(calc: Calculation) -> None:
             vib.ir_intensities_km_mol = [vib.ir_intensities_km_mol[i] for i in order]
         if len(order) < expected:
             calc.problems.append(f"only {len(order)} of {expected} vibrational modes printed")
+
+    if calc.elements and not calc.coordinates_angstrom and calc.status.word not in ("truncated", "failed"):
+        calc.problems.append("the log prints no coordinates for this job")
 
     # Final energy at the highest level present
     if calc.scf_energy_hartree is None and "scf" in calc.energies_hartree:

@@ -28,6 +28,9 @@ def route(text: str) -> str:
 
 
 def apply(calc, text: str, data) -> None:
+    m = re.search(r"^ Gaussian (\d+):\s+\S+-G\d+Rev([A-Z]\.\d+)", text[:20000], re.M)
+    if m:
+        calc.program_version = f"{m.group(1)} Rev. {m.group(2)}"
     r = route(text)
     words = re.split(r"[\s]+", r)
     if re.search(r"\bopt\b|\bopt=|\bopt\(", r):

@@ -1,10 +1,113 @@
-"""psi4 supplement."""
+"""Psi4 supplement, read from the log text.
+
+- Frequency jobs: cclib 1.8.1 returns no scfenergies for a finite-difference frequency run
+  (many displaced SCFs); the reference-geometry energy is the printed
+  "Total E0, Electronic energy at well bottom" (8 decimals), taken at full precision from
+  the SCF "Total Energy =" line that rounds to it.
+- Spin populations: cclib returns none; the "Mulliken Charges: (a.u.)" and "Lowdin Charges"
+  tables print Alpha, Beta, Spin, Total columns per atom.
+- <S^2> ("@S^2 Observed:"), thermochemistry totals in Eh (Total ZPE / H / G at T),
+  CCSD and CCSD(T) total energies at full printed precision, job kinds from the input echo.
+"""
 from __future__ import annotations
 
+import re
 
-def apply(calc, text, data):
-    return None
+from dossier.reading.textutil import FLOAT, all_floats, last_float, last_match
+from dossier.records import PrintedThermo
+
+DISPERSION = {"d3bj": "D3(BJ)", "d3": "D3(0)", "d3zero": "D3(0)", "d3mbj": "D3M(BJ)", "d4": "D4", "d2": "D2", "nl": "VV10"}
 
 
-def covers_skipped(skipped):
+def covers_skipped(skipped) -> bool:
     return False
+
+
+def _input_echo(text: str) -> str:
+    m = re.search(r"==> Input File <==\n\n-+\n(.*?)\n-+", text, re.S)
+    return m.group(1) if m else text[:5000]
+
+
+def apply(calc, text: str, data) -> None:
+    m = re.search(r"^\s+Psi4 (\d+\.\d+(?:\.\d+)?)\S* (?:release|dev)", text[:3000], re.M)
+    if m:
+        calc.program_version = m.group(1)
+    echo = _input_echo(text)
+    low = echo.lower()
+    if re.search(r"\b(optimize|opt)\(", low):
+        calc.job_kinds.append("optimization")
+    is_freq = re.search(r"\b(frequencies|frequency|freq|hessian)\(", low) is not None
+    if is_freq:
+        calc.job_kinds.append("frequencies")
+    m = re.search(r"\b(?:energy|optimize|opt|frequencies|frequency|freq|gradient|properties)\(\s*['\"]([^'\"]+)['\"]", low)
+    if m:
+        name = m.group(1)
+        base, _, disp = name.partition("-")
+        if disp in DISPERSION:
+            calc.level.dispersion = DISPERSION[disp]
+        if base in ("scf", "hf"):
+            calc.level.method, calc.level.functional = "HF", None
+        elif base.startswith(("mp2", "mp3", "ccsd", "cc2", "cc3", "cisd", "qcisd")):
+            calc.level.method, calc.level.functional = base.upper(), None
+    ref = re.search(r"reference\s+(\w+)", low)
+    if ref:
+        calc.level.unrestricted = ref.group(1) in ("uhf", "uks", "cuhf")
+    elif "==> Beta-Spin Molecular Orbitals <==" in text:
+        calc.level.unrestricted = True
+    else:
+        calc.level.unrestricted = False
+    if "pcm" in low or "PCMSolver" in text:
+        eps = last_float(r"Dielectric \(static\)\s*=?\s*(" + FLOAT + ")", text) or last_float(r"epsilon\s*=\s*(" + FLOAT + ")", low)
+        calc.level.solvation = f"PCM (eps={eps:g})" if eps is not None else "PCM"
+
+    s2 = last_float(r"@S\^2 Observed:\s*(" + FLOAT + ")", text)
+    if s2 is not None:
+        calc.s2 = s2
+
+    totals = all_floats(r"^\s*Total Energy =\s*(" + FLOAT + ")", text, re.M)
+    e0 = last_float(r"Total E0, Electronic energy at well bottom at 0 \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
+    if is_freq and e0 is not None:
+        exact = next((t for t in totals if abs(t - e0) < 0.6e-8), None)
+        calc.energies_hartree["scf"] = exact if exact is not None else e0
+        calc.scf_energy_hartree = calc.energies_hartree["scf"]
+        calc.optimization_energies_hartree = [calc.scf_energy_hartree]
+    elif totals:
+        calc.energies_hartree["scf"] = totals[-1]
+        calc.scf_energy_hartree = totals[-1]
+    for name, pat in (("mp2", r"^\s*\*?\s*MP2 total energy\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd", r"^\s*\*\s*CCSD total energy\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd(t)", r"^\s*\*\s*CCSD\(T\) total energy\s*=\s*(" + FLOAT + ")")):
+        v = last_float(pat, text, re.M | re.I)
+        if v is not None:
+            for k in [k for k in calc.energies_hartree if k.startswith("cc") and k not in ("ccsd", "ccsd(t)")]:
+                del calc.energies_hartree[k]
+            calc.energies_hartree[name] = v
+
+    n = calc.n_atoms
+    for scheme, title in (("mulliken", "Mulliken Charges: (a.u.)"), ("lowdin", "Lowdin Charges: (a.u.)")):
+        i = text.rfind(title)
+        if i < 0 or n == 0:
+            continue
+        rows = text[i:].split("\n")[2 : 2 + n]
+        q, s = [], []
+        for row in rows:
+            parts = row.split()
+            if len(parts) != 6:
+                break
+            s.append(float(parts[4]))
+            q.append(float(parts[5]))
+        if len(q) == n:
+            calc.charges[scheme] = q
+            if calc.level.unrestricted:
+                calc.spin_populations[scheme] = s
+
+    t = last_match(r"Total H, Enthalpy at\s+(" + FLOAT + r") \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
+    if t:
+        g = last_float(r"Total G, Free enthalpy at\s+" + FLOAT + r" \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
+        zpe = last_float(r"Correction ZPE\s+.*?(" + FLOAT + r") \[Eh\]", text)
+        p = last_float(r"Pressure\s*[:=]?\s*(" + FLOAT + r") \[Pa\]", text)
+        h = float(t.group(2))
+        temp = float(t.group(1))
+        entropy = (h - g) / temp if g is not None else None
+        calc.printed_thermo = PrintedThermo(temperature_k=temp, pressure_pa=p, zpe_hartree=zpe, enthalpy_hartree=h,
+                                            gibbs_hartree=g, entropy_hartree_per_k=entropy)
