@@ -2,12 +2,14 @@
 
 Rigid-rotor harmonic-oscillator (RRHO) partition functions, the same way for every program:
 
-- translation: Sackur–Tetrode (McQuarrie, *Statistical Mechanics*, 1976, eqs 5-19/5-20);
+- translation: Sackur–Tetrode (McQuarrie, *Statistical Mechanics*, 1976, chapter 5);
 - rotation: rigid rotor in the high-temperature limit, with the rotational symmetry number
-  found from the geometry (McQuarrie 1976, eqs 6-50 and 8-59/8-61); linear molecules;
+  found from the geometry (McQuarrie 1976, chapters 6 and 8); linear molecules;
 - vibration: harmonic oscillators, zero-point energy counted from the well bottom
-  (McQuarrie 1976, eqs 8-22 to 8-25; Ochterski, "Thermochemistry in Gaussian", 2000, eqs 5-7);
-- electronic: spin degeneracy 2S+1 only, no excited states (Ochterski 2000, section 2.4);
+  (McQuarrie 1976, chapters 6 and 8; Ochterski, "Thermochemistry in Gaussian", Gaussian Inc.
+  white paper, 2000, "contributions from vibrational motion");
+- electronic: spin degeneracy 2S+1 only, no excited states (Ochterski 2000, "contributions
+  from electronic motion");
 - low modes, optionally: Grimme's quasi-RRHO entropy (Chem. Eur. J. 2012, 18, 9955, eqs 4-8)
   or Truhlar's raising of real modes below 100 cm-1 to 100 cm-1 (Ribeiro, Marenich, Cramer,
   Truhlar, J. Phys. Chem. B 2011, 115, 14556).
@@ -30,11 +32,11 @@ from dossier import units
 from dossier.errors import DossierError
 
 # -- method parameters (published values, not physical constants) -----------------------
-#: Grimme 2012 (Chem. Eur. J. 18, 9955), p. 9957: rotor/oscillator switch frequency omega_0.
+#: Grimme 2012 (Chem. Eur. J. 18, 9955): the rotor/oscillator switch frequency omega_0 of eq 8.
 GRIMME_W0_CM1 = 100.0
 #: Grimme 2012, eq 8: exponent alpha of the Head-Gordon damping function.
 GRIMME_ALPHA = 4
-#: Grimme 2012, text after eq 5: average molecular moment of inertia B_av, kg m^2.
+#: Grimme 2012, with eq 5: the average molecular moment of inertia B_av, kg m^2.
 GRIMME_BAV_KG_M2 = 1.0e-44
 #: Ribeiro et al. 2011 (J. Phys. Chem. B 115, 14556): real modes below this are raised to it.
 TRUHLAR_RAISE_CM1 = 100.0
@@ -92,7 +94,7 @@ def principal_moments_amu_a2(masses_amu: Sequence[float], coordinates_angstrom) 
     """Principal moments (u A^2, ascending) and axes (columns) of the inertia tensor.
 
     I_ab = sum_i m_i (r_i^2 delta_ab - r_ia r_ib) about the centre of mass
-    (McQuarrie 1976, section 8-5; Ochterski 2000, section 2.3).
+    (McQuarrie 1976, chapter 8; Ochterski 2000, "contributions from rotational motion").
     """
     m = np.asarray(masses_amu, dtype=float)
     x = np.asarray(coordinates_angstrom, dtype=float)
@@ -188,8 +190,8 @@ def detect_symmetry(
     of midpoints and of normals of pairs of like atoms. Each candidate C_n (n <= max_order),
     S_2n, mirror and the inversion is kept when every atom lands within `tolerance_angstrom`
     of a like atom; the kept operations are closed into a group. The rotational symmetry
-    number is the order of the group's proper-rotation subgroup (McQuarrie 1976, section 8-7;
-    Ochterski 2000, section 2.3, table of symmetry numbers); point-group naming follows the
+    number is the order of the group's proper-rotation subgroup (McQuarrie 1976, chapter 8;
+    Ochterski 2000, table of rotational symmetry numbers); point-group naming follows the
     usual Schoenflies flow chart (Cotton, *Chemical Applications of Group Theory*, 3rd ed.
     1990, section 3.14).
     """
@@ -292,8 +294,8 @@ def _schoenflies(group: list[np.ndarray], proper: list[np.ndarray]) -> str:
 def translational_entropy_j_mol_k(mass_amu: float, temperature_k: float, pressure_pa: float) -> float:
     """Sackur–Tetrode: S_t = R [ln((2 pi m k T / h^2)^(3/2) k T / p) + 5/2].
 
-    McQuarrie, *Statistical Mechanics* (1976), eq 5-20; Ochterski, "Thermochemistry in
-    Gaussian" (2000), eqs 9-10.
+    McQuarrie, *Statistical Mechanics* (1976), chapter 5; Ochterski, "Thermochemistry in
+    Gaussian" (2000), "contributions from translation".
     """
     m = mass_amu * units.ATOMIC_MASS_KG
     q_per_volume = (2.0 * math.pi * m * _K * temperature_k / _H**2) ** 1.5
@@ -301,7 +303,7 @@ def translational_entropy_j_mol_k(mass_amu: float, temperature_k: float, pressur
 
 
 def rotational_temperatures_k(moments_amu_a2: Sequence[float]) -> list[float]:
-    """Theta_r = h^2 / (8 pi^2 I k) for each principal moment (McQuarrie 1976, eq 6-31)."""
+    """Theta_r = h^2 / (8 pi^2 I k) for each principal moment (McQuarrie 1976, chapter 6)."""
     return [_H**2 / (8.0 * math.pi**2 * i * _AMU_A2_TO_KG_M2 * _K) if i > 0 else math.inf for i in moments_amu_a2]
 
 
@@ -311,9 +313,9 @@ def rotational_entropy_j_mol_k(
     """High-temperature rigid rotor entropy.
 
     Nonlinear: q_r = (pi^1/2 / sigma) (T^3 / (Theta_A Theta_B Theta_C))^(1/2),
-    S_r = R (ln q_r + 3/2) (McQuarrie 1976, eqs 8-59 and 8-61; Ochterski 2000, eqs 19-22).
-    Linear: q_r = T / (sigma Theta_r), S_r = R (ln q_r + 1) (McQuarrie 1976, eqs 6-50 and 6-53;
-    Ochterski 2000, eqs 16-18).
+    S_r = R (ln q_r + 3/2) (McQuarrie 1976, chapter 8). Linear: q_r = T / (sigma Theta_r),
+    S_r = R (ln q_r + 1) (McQuarrie 1976, chapter 6). Both as in Ochterski 2000,
+    "contributions from rotational motion".
     """
     theta = rotational_temperatures_k(moments_amu_a2)
     if linear:
@@ -324,33 +326,34 @@ def rotational_entropy_j_mol_k(
 
 
 def harmonic_zpe_j_mol(wavenumber_cm1: float) -> float:
-    """Zero-point energy of one harmonic mode, N_A h c nu~ / 2 (McQuarrie 1976, eq 8-22)."""
+    """Zero-point energy of one harmonic mode, N_A h c nu~ / 2 (McQuarrie 1976, chapter 6; Ochterski 2000)."""
     return 0.5 * wavenumber_cm1 * units.CM1_KJ_MOL * 1000.0
 
 
 def _x(wavenumber_cm1: float, temperature_k: float) -> float:
-    """Reduced frequency x = h c nu~ / (k T) = Theta_v / T (McQuarrie 1976, eq 8-20)."""
+    """Reduced frequency x = h c nu~ / (k T) = Theta_v / T (McQuarrie 1976, chapter 6)."""
     return wavenumber_cm1 * units.CM1_J / (_K * temperature_k)
 
 
 def harmonic_thermal_energy_j_mol(wavenumber_cm1: float, temperature_k: float) -> float:
     """Thermal (above zero-point) energy of one mode, R Theta_v / (e^x - 1).
 
-    McQuarrie 1976, eq 8-23 without the zero-point term; Ochterski 2000, eq 5.
+    McQuarrie 1976, chapter 6, without the zero-point term; Ochterski 2000, "contributions
+    from vibrational motion" (energy measured from the bottom of the well).
     """
     x = _x(wavenumber_cm1, temperature_k)
     return _R * temperature_k * x / math.expm1(x)
 
 
 def harmonic_entropy_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
-    """S_v = R [x / (e^x - 1) - ln(1 - e^-x)] for one mode (McQuarrie 1976, eq 8-25;
-    Ochterski 2000, eq 7; Grimme 2012, the oscillator entropy S_V his eq 7 interpolates)."""
+    """S_v = R [x / (e^x - 1) - ln(1 - e^-x)] for one mode (McQuarrie 1976, chapter 6;
+    Ochterski 2000; Grimme 2012, the oscillator entropy S_V that his eq 7 interpolates)."""
     x = _x(wavenumber_cm1, temperature_k)
     return _R * (x / math.expm1(x) - math.log(-math.expm1(-x)))
 
 
 def harmonic_heat_capacity_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
-    """C_v = R x^2 e^x / (e^x - 1)^2 for one mode (McQuarrie 1976, eq 8-24; Ochterski 2000, eq 6)."""
+    """C_v = R x^2 e^x / (e^x - 1)^2 for one mode (McQuarrie 1976, chapter 6; Ochterski 2000)."""
     x = _x(wavenumber_cm1, temperature_k)
     return _R * x * x * math.exp(x) / math.expm1(x) ** 2
 
@@ -397,7 +400,8 @@ def standard_state_pressure_pa(standard_state: str, temperature_k: float) -> flo
     1atm = 101325 Pa; 1bar = 1e5 Pa; 1M (1 mol/L) is the ideal-gas pressure of that
     concentration, p = c R T (24.46 atm at 298.15 K), so that G(1M) - G(1atm) =
     R T ln(c R T / 1 atm) (Ben-Naim, *Solvation Thermodynamics*, 1987; Cramer,
-    *Essentials of Computational Chemistry*, 2nd ed. 2004, section 10.3).
+    *Essentials of Computational Chemistry*, 2nd ed. 2004, standard-state conventions of
+    solvation free energies).
     """
     if standard_state == "1atm":
         return units.STANDARD_ATMOSPHERE_PA
@@ -532,7 +536,7 @@ def rrho(
     "truhlar" (real modes below 100 cm-1 raised to 100 cm-1 in the whole vibrational
     partition function, Ribeiro et al. 2011).
     The corrections are relative to the electronic energy at the well bottom:
-    H = E_el + ZPE + E_t + E_r + E_v(T) + k T; G = H - T S (Ochterski 2000, section 4).
+    H = E_el + ZPE + E_t + E_r + E_v(T) + k T; G = H - T S (Ochterski 2000, "thermochemistry output" section).
     """
     if qrrho not in QRRHO_METHODS:
         raise ThermoError(f"unknown qRRHO treatment {qrrho!r}; use one of {', '.join(QRRHO_METHODS)}")
@@ -594,10 +598,10 @@ def rrho(
 
     t = float(temperature_k)
     rt_hartree = _R * t / _J_MOL_PER_HARTREE
-    # translation (McQuarrie 1976, eqs 5-17 to 5-20): E = 3/2 RT, H = 5/2 RT, Cv = 3/2 R
+    # translation (McQuarrie 1976, chapter 5): E = 3/2 RT, H = E + pV = 5/2 RT, Cv = 3/2 R
     s_t = translational_entropy_j_mol_k(mass_total, t, p)
     trans = Contribution(1.5 * rt_hartree, 2.5 * rt_hartree, s_t, 1.5 * _R, -t * s_t / _J_MOL_PER_HARTREE)
-    # rotation (McQuarrie 1976, eqs 6-51, 8-60): E = RT (linear) or 3/2 RT
+    # rotation (McQuarrie 1976, chapters 6 and 8): E = RT (linear) or 3/2 RT
     if n_atoms == 1:
         rot = Contribution(0.0, 0.0, 0.0, 0.0, 0.0)
     else:
@@ -629,7 +633,7 @@ def rrho(
     zpe_h = zpe / _J_MOL_PER_HARTREE
     vib_e = zpe_h + e_v / _J_MOL_PER_HARTREE
     vib = Contribution(vib_e, vib_e, s_v, c_v, -t * s_v / _J_MOL_PER_HARTREE)
-    # electronic: spin degeneracy only (Ochterski 2000, eqs 12-14), S = R ln(2S+1)
+    # electronic: spin degeneracy only (Ochterski 2000, electronic motion), S = R ln(2S+1)
     s_e = _R * math.log(int(multiplicity))
     elec = Contribution(0.0, 0.0, s_e, 0.0, -t * s_e / _J_MOL_PER_HARTREE)
 
@@ -670,7 +674,7 @@ def rrho(
 
 def standard_state_correction_kj_mol(temperature_k: float, to_state: str = "1M", from_state: str = "1atm") -> float:
     """G(to) - G(from) of an ideal gas: R T ln(p_to / p_from); 1 atm -> 1 M at 298.15 K is
-    R T ln(24.46) = +7.92 kJ/mol (Cramer 2004, section 10.3)."""
+    R T ln(24.46) = +7.92 kJ/mol (1.89 kcal/mol; Cramer 2004)."""
     p_to = standard_state_pressure_pa(to_state, temperature_k)
     p_from = standard_state_pressure_pa(from_state, temperature_k)
     return _R * temperature_k * math.log(p_to / p_from) / 1000.0
