@@ -140,17 +140,26 @@ def _part_word(part: str) -> str:
 def _check_status(c: _Collector, state: str | None, part: str, rec: Calculation) -> None:
     st = rec.status
     why = f" ({st.reason})" if st.reason else ""
-    if st.scf_converged is False:
-        c.add("error", "SCF-CONV", f"{_part_word(part)}: the SCF did not converge{why}; rerun it to convergence",
-              state=state, record=rec)
-    if st.optimization_converged is False:
-        c.add("error", "OPT-CONV", f"{_part_word(part)}: the geometry optimisation did not converge{why}; "
-                                   "continue it from its last geometry", state=state, record=rec)
-    if st.scf_converged is not False and st.optimization_converged is not False and st.word != "ok":
-        code = {"failed": "RUN-FAILED", "truncated": "RUN-TRUNCATED"}.get(st.word, "RUN-STATUS")
-        if code == "RUN-STATUS" and st.word == "not-converged":
-            code = "OPT-CONV" if "optimization" in rec.job_kinds and part == "geometry" else "SCF-CONV"
-        c.add("error", code, f"{_part_word(part)}: status '{st.word}'{why}", state=state, record=rec)
+    w = _part_word(part)
+    if st.word == "truncated":
+        tail = "; the optimisation had not converged" if st.optimization_converged is False else ""
+        c.add("error", "RUN-TRUNCATED", f"{w}: the output stops before the end{why}{tail}; "
+                                        "rerun or restart the job", state=state, record=rec)
+    elif st.word == "failed":
+        c.add("error", "RUN-FAILED", f"{w}: the job ended with an error{why}", state=state, record=rec)
+    if st.word != "truncated":
+        if st.scf_converged is False:
+            c.add("error", "SCF-CONV", f"{w}: the SCF did not converge{why}; rerun it to convergence",
+                  state=state, record=rec)
+        if st.optimization_converged is False:
+            c.add("error", "OPT-CONV", f"{w}: the geometry optimisation did not converge{why}; "
+                                       "continue it from its last geometry", state=state, record=rec)
+    if st.word not in ("ok", "truncated", "failed") and st.scf_converged is not False \
+            and st.optimization_converged is not False:
+        code = "RUN-STATUS"
+        if st.word == "not-converged":
+            code = "OPT-CONV" if "optimization" in rec.job_kinds else "SCF-CONV"
+        c.add("error", code, f"{w}: status '{st.word}'{why}", state=state, record=rec)
     for problem in rec.problems:
         if "spin contamination" in problem.lower():
             continue  # SPIN-CONTAM reports it, with the threshold
@@ -169,8 +178,8 @@ def _check_spin(c: _Collector, state: str | None, part: str, rec: Calculation) -
 def _same_structure(c: _Collector, state: str, part: str, rec: Calculation, ref: Calculation,
                     code: str, what: str) -> None:
     """`rec` must have the atoms, order and geometry of the state's geometry job `ref`."""
-    if not rec.elements or not rec.coordinates_angstrom:
-        return
+    if not rec.elements or not rec.coordinates_angstrom or not ref.elements or not ref.coordinates_angstrom:
+        return  # a cut-off job has no final geometry; RUN-TRUNCATED says so
     if sorted(rec.elements) != sorted(ref.elements):
         c.add("error", "FORMULA", f"{_part_word(part)} is {rec.formula or '?'} but the state's geometry job is "
                                   f"{ref.formula}; it belongs to another molecule", state=state, record=rec)
@@ -399,7 +408,8 @@ def _check_ts_mode(c: _Collector, project: Project, pw) -> None:
     mode = np.asarray(vib.displacements[imag[0]], dtype=float)
     ref = freq.coordinates_angstrom or ts.geometry.coordinates_angstrom
     a, b = states[pw.reactant].geometry, states[pw.product].geometry
-    if mode.shape != np.asarray(ref).shape or len(a.coordinates_angstrom) != len(ref):
+    if mode.shape != np.asarray(ref).shape or len(a.coordinates_angstrom) != len(ref) \
+            or len(b.coordinates_angstrom) != len(ref):
         c.add("info", "TS-MODE-UNCHECKED", f"pathway '{pw.name}': the mode and the geometries have different atom "
                                            "counts; the mode direction was not checked", state=ts.name, record=freq)
         return
@@ -464,7 +474,8 @@ def _check_duplicates(c: _Collector, project: Project) -> None:
         a = project.states[na].geometry
         for nb in names[i + 1:]:
             b = project.states[nb].geometry
-            if project.label(a) == project.label(b) or a.elements != b.elements:
+            if project.label(a) == project.label(b) or a.elements != b.elements or not a.coordinates_angstrom \
+                    or not b.coordinates_angstrom:
                 continue
             if a.energy_hartree is None or b.energy_hartree is None:
                 continue

@@ -909,7 +909,7 @@ def bind(manifest: Manifest, records: Mapping[Path, Calculation]) -> Project:
     states: dict[str, State] = {}
     for name, sp in m.states.items():
         geom = by_path[sp.geometry]
-        if not geom.elements or not geom.coordinates_angstrom:
+        if (not geom.elements or not geom.coordinates_angstrom) and geom.status.word == "ok":
             raise ManifestError(f"states.{name}.geometry: '{m.file_labels[sp.geometry]}' holds no geometry "
                                 "(no atoms were read); name the job that gives the state's structure",
                                 where=m.where("states", name, "geometry"))

@@ -1,0 +1,285 @@
+"""dossier.checks on small projects built from real third-party outputs (cclib's test data,
+BSD-3, in ../shared/fixtures/qc-logs) and, when present, on the demo study.
+
+Each expectation is checked against something outside the checker: the log text itself
+(what the program printed), ASE's superposition for RMSDs, hashlib for SHA-256.
+"""
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import json
+import re
+import textwrap
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from dossier import checks
+from dossier.project import bind, load_manifest, load_project
+
+from conftest import DEMO, demo_path, fixture_path
+
+G = "Gaussian/basicGaussian16/"
+
+
+def _project(tmp_path: Path, body: str, **kw):
+    path = tmp_path / "dossier.toml"
+    path.write_text(textwrap.dedent(body))
+    return load_project(path, jobs=1, **kw)
+
+
+def _codes(findings, severity=None):
+    return {f.code for f in findings if severity is None or f.severity == severity}
+
+
+def _dvb_state(role="minimum", extra=""):
+    return f"""\
+        [states.dvb]
+        role = "{role}"
+        geometry = "{fixture_path(G + 'dvb_gopt.out')}"
+        frequencies = "{fixture_path(G + 'dvb_ir.out')}"
+        {extra}
+        """
+
+
+def test_transition_state_role_on_a_minimum_is_an_error(tmp_path):
+    # Outside reference: Gaussian's own frequency list in dvb_ir.out, whose first (lowest)
+    # printed frequency is positive, i.e. the structure has no imaginary mode.
+    text = fixture_path(G + "dvb_ir.out").read_text()
+    first = float(re.search(r"Frequencies --\s+(-?\d+\.\d+)", text).group(1))
+    assert first > 0
+    findings = checks.run_checks(_project(tmp_path, _dvb_state("transition-state")))
+    imag_ts = [f for f in findings if f.code == "IMAG-TS"]
+    assert len(imag_ts) == 1 and imag_ts[0].severity == "error"
+    assert imag_ts[0].state == "dvb" and imag_ts[0].file.endswith("dvb_ir.out")
+
+
+def test_minimum_role_on_the_same_job_has_no_imaginary_finding(tmp_path):
+    findings = checks.run_checks(_project(tmp_path, _dvb_state("minimum")))
+    assert not _codes(findings) & {"IMAG-MIN", "IMAG-TS", "IMAG-NOISE"}
+    assert "error" not in {f.severity for f in findings}
+
+
+def test_single_point_at_another_geometry(tmp_path):
+    # Q-Chem's B3LYP/STO-3G optimum vs xtb's GFN2 optimum of the same molecule, same atom order.
+    # Outside reference for the RMSD: ASE's minimize_rotation_and_translation.
+    from ase import Atoms
+    from ase.build import minimize_rotation_and_translation
+    from dossier.reading import read
+
+    qopt = fixture_path("QChem/basicQChem5.4/dvb_gopt.out")
+    xopt = fixture_path("XTB/basicXTB6.6.1/dvb_opt/dvb_opt.out")
+    project = _project(tmp_path, f"""\
+        [states.q]
+        geometry = "{qopt}"
+        single_points = {{ xtb = "{xopt}" }}
+        """)
+    findings = checks.run_checks(project)
+    sp = [f for f in findings if f.code == "SP-GEOM"]
+    assert len(sp) == 1 and sp[0].severity == "error" and sp[0].file.endswith("dvb_opt.out")
+    a, b = read(xopt), read(qopt)
+    mobile, target = Atoms(a.elements, a.coordinates_angstrom), Atoms(b.elements, b.coordinates_angstrom)
+    minimize_rotation_and_translation(target, mobile)
+    ase_rmsd = float(np.sqrt(((mobile.positions - target.positions) ** 2).sum(1).mean()))
+    assert ase_rmsd > checks.SAME_GEOMETRY_RMSD_ANGSTROM
+    assert f"{ase_rmsd:.3f} A RMSD" in sp[0].message
+
+
+def test_single_point_at_the_same_geometry_passes(tmp_path):
+    # NWChem's frequency and UKS cation jobs were run at the optimised geometry of the cclib
+    # inputs (dvb_ir.in / dvb_un_sp_ks.in carry the same coordinates): no SP-GEOM/FREQ-GEOM.
+    nw = "NWChem/basicNWChem7.0/"
+    project = _project(tmp_path, f"""\
+        [states.n]
+        geometry = "{fixture_path(nw + 'dvb_ir.out')}"
+        single_points = {{ cation = "{fixture_path(nw + 'dvb_un_sp_ks.out')}" }}
+        """)
+    findings = checks.run_checks(project)
+    assert "SP-GEOM" not in _codes(findings)
+    # but the cation single point has another charge and multiplicity than the neutral geometry job
+    cm = [f for f in findings if f.code == "CHARGE-MULT"]
+    assert cm and cm[0].file.endswith("dvb_un_sp_ks.out")
+
+
+def test_spin_contamination_of_an_unrestricted_hf_cation(tmp_path):
+    # Outside reference: ORCA's own "Expectation value of <S**2>" line in the log; the doublet
+    # ideal S(S+1) = 0.75; the 0.1 limit is common practice, no source.
+    hf = fixture_path("ORCA/basicORCA6.0/dvb_sp_un_hf.out")
+    uks = fixture_path("ORCA/basicORCA5.0/dvb_sp_un.out")
+    printed = float(re.search(r"Expectation value of <S\*\*2>\s*:\s*([\d.]+)", hf.read_text()).group(1))
+    printed_uks = float(re.search(r"Expectation value of <S\*\*2>\s*:\s*([\d.]+)", uks.read_text()).group(1))
+    assert abs(printed - 0.75) > 0.1 > abs(printed_uks - 0.75)
+    project = _project(tmp_path, f"""\
+        [states.hf]
+        geometry = "{hf}"
+        [states.uks]
+        geometry = "{uks}"
+        """)
+    spin = [f for f in checks.run_checks(project) if f.code == "SPIN-CONTAM"]
+    assert [f.state for f in spin] == ["hf"]
+    assert f"{printed:.4f}" in spin[0].message
+
+
+def test_truncated_run_is_an_error(tmp_path):
+    text = fixture_path(G + "dvb_gopt.out").read_text()
+    cut = tmp_path / "cut.log"
+    cut.write_text(text[: len(text) // 2])  # a copy cut in half: no "Normal termination" line
+    assert "Normal termination" not in cut.read_text()
+    findings = checks.run_checks(_project(tmp_path, f'[states.c]\ngeometry = "{cut}"\n'))
+    assert "RUN-TRUNCATED" in _codes(findings, "error")
+
+
+def test_levels_mixed_along_a_pathway_and_allowed_by_a_recipe(tmp_path):
+    # Gaussian's and ORCA's dvb files print the same level; xtb is GFN2-xTB: a different one.
+    body = f"""\
+        [states.g]
+        geometry = "{fixture_path('QChem/basicQChem5.4/dvb_gopt.out')}"
+        [states.x]
+        geometry = "{fixture_path('XTB/basicXTB6.6.1/dvb_opt/dvb_opt.out')}"
+        [recipes.e]
+        electronic = "geometry"
+        thermal = "none"
+        MIXED
+        [[pathways]]
+        name = "p"
+        reactant = "g"
+        product = "x"
+        """
+    findings = checks.run_checks(_project(tmp_path, body.replace("MIXED", "")))
+    mix = [f for f in findings if f.code == "LEVEL-MIX"]
+    assert mix and all(f.severity == "error" for f in mix) and "GFN2-xTB" in mix[0].message
+    findings = checks.run_checks(_project(tmp_path, body.replace("MIXED", "mixed_levels = true")))
+    assert {f.severity for f in findings if f.code == "LEVEL-MIX"} == {"info"}
+
+
+def test_duplicates_and_thermo_conditions(tmp_path):
+    # dvb_gopt.out and dvb_ir.out end at the same geometry with the same SCF energy (Gaussian
+    # prints SCF Done: E(RB3LYP) = -382.308266602 in both): two states that are one structure.
+    gopt, gir = fixture_path(G + "dvb_gopt.out"), fixture_path(G + "dvb_ir.out")
+    e = [re.findall(r"SCF Done:\s+E\(\S+\)\s+=\s+(-?\d+\.\d+)", p.read_text())[-1] for p in (gopt, gir)]
+    assert e[0] == e[1]
+    # Gaussian prints its thermochemistry at 298.150 K and 1 atm (the log's "Temperature ... Pressure" line)
+    assert re.search(r"Temperature\s+298\.150 Kelvin\.\s+Pressure\s+1\.00000 Atm", gir.read_text())
+    project = _project(tmp_path, f"""\
+        [project]
+        temperatures_k = [320.0]
+        standard_state = "1atm"
+        [states.a]
+        geometry = "{gopt}"
+        frequencies = "{gir}"
+        [states.b]
+        geometry = "{gir}"
+        [states.c]
+        geometry = "{gir}"
+        """)
+    findings = checks.run_checks(project)
+    assert "DUP-FILE" in _codes(findings, "error")
+    assert any(f.code == "DUP-STATE" and f.state == "b" for f in findings)
+    assert "THERMO-T" in _codes(findings, "info")
+    assert "THERMO-SS" not in _codes(findings)  # 1 atm printed, 1 atm asked
+
+
+def test_source_changed_since_the_last_build(tmp_path):
+    gopt = fixture_path(G + "dvb_gopt.out")
+    project = _project(tmp_path, f'[states.a]\ngeometry = "{gopt}"\n')
+    label = project.label(gopt)
+    sha = hashlib.sha256(gopt.read_bytes()).hexdigest()  # outside reference: hashlib
+    same = checks.run_checks(project, previous_sources=[{"path": label, "sha256": sha}])
+    assert not _codes(same) & {"SRC-CHANGED", "SRC-NEW", "SRC-GONE"}
+    changed = checks.run_checks(project, previous_sources=[{"path": label, "sha256": "0" * 64},
+                                                           {"path": "old.out", "sha256": "1" * 64}])
+    assert "SRC-CHANGED" in _codes(changed, "warning") and "SRC-GONE" in _codes(changed)
+
+
+def test_ts_mode_direction_on_a_real_normal_mode(tmp_path):
+    # Records derived from ORCA's dvb frequency job: its lowest real mode is made the "imaginary"
+    # mode of a stand-in transition state; minima displaced along that mode (+-0.05 A) are
+    # connected by it (|cos| = 1), minima displaced along another mode are not (modes of one
+    # Hessian are orthogonal in mass-weighted coordinates, nearly so in Cartesians).
+    from dossier.reading import read
+
+    ir = fixture_path("ORCA/basicORCA5.0/dvb_ir.out")
+    base = read(ir)
+    vib = base.vibrations
+    x0 = np.asarray(base.coordinates_angstrom)
+
+    def run(mode_for_minima: int):
+        m = np.asarray(vib.displacements[mode_for_minima])
+        m = 0.05 * m / np.linalg.norm(m)
+        files = {n: tmp_path / f"{n}.out" for n in ("a", "t", "b")}
+        for p in files.values():
+            p.write_bytes(ir.read_bytes())
+        wn = list(vib.wavenumbers_cm1)
+        wn[0] = -abs(wn[0]) - 300.0
+        ts = dataclasses.replace(base, vibrations=dataclasses.replace(vib, wavenumbers_cm1=wn))
+        rec = {files["t"]: ts,
+               files["a"]: dataclasses.replace(base, coordinates_angstrom=(x0 - m).tolist(), vibrations=None),
+               files["b"]: dataclasses.replace(base, coordinates_angstrom=(x0 + m).tolist(), vibrations=None)}
+        path = tmp_path / "dossier.toml"
+        path.write_text(textwrap.dedent("""\
+            [states.a]
+            geometry = "a.out"
+            [states.t]
+            role = "transition-state"
+            geometry = "t.out"
+            [states.b]
+            geometry = "b.out"
+            [[pathways]]
+            name = "p"
+            reactant = "a"
+            transition_state = "t"
+            product = "b"
+            """))
+        manifest = load_manifest(path)
+        project = bind(manifest, {p.resolve(): r for p, r in rec.items()})
+        return [f for f in checks.run_checks(project) if f.code == "TS-MODE"]
+
+    assert run(0) == []
+    wrong = run(5)
+    assert len(wrong) == 1 and wrong[0].severity == "error" and wrong[0].state == "t"
+
+
+def test_cli_json_and_exit_codes(tmp_path, capsys):
+    from dossier.cli import main
+
+    path = tmp_path / "dossier.toml"
+    path.write_text(textwrap.dedent(_dvb_state("transition-state")))
+    assert main(["check", str(path), "--json"]) == 1
+    out = json.loads(capsys.readouterr().out)
+    assert out and all(set(f) == {"severity", "code", "state", "file", "message"} for f in out)
+    path.write_text(textwrap.dedent(_dvb_state("minimum")))
+    assert main(["check", str(path)]) == 0
+    assert "Notes" in capsys.readouterr().out
+    path.write_text('[states.a]\ngeometry = "nowhere.out"\n')
+    assert main(["check", str(path)]) == 2
+    assert f"{path}:2:" in capsys.readouterr().err
+
+
+# -- the demo study ----------------------------------------------------------------
+def _demo_findings(name: str):
+    manifest = demo_path(name)
+    return checks.run_checks(load_project(manifest))
+
+
+def test_demo_sound_manifest_has_no_error():
+    findings = _demo_findings("dossier.toml")
+    errors = [f.line() for f in findings if f.severity == "error"]
+    assert errors == []
+
+
+def test_demo_flawed_manifest_flags_each_flawed_run():
+    manifest = demo_path("flawed.toml")
+    # The demo's flawed.toml says, in a comment "# flaw: CODE" on each flawed state's table
+    # header line, which finding it must raise (written by the demo study, not by the checker).
+    expected: dict[str, str] = {}
+    for line in manifest.read_text().splitlines():
+        m = re.match(r"\s*\[states\.([^\]]+)\].*#\s*flaw:\s*([A-Z0-9-]+)", line)
+        if m:
+            expected[m.group(1).strip('"')] = m.group(2)
+    if not expected:
+        pytest.skip("flawed.toml marks no '# flaw: CODE' comments yet")
+    findings = checks.run_checks(load_project(manifest))
+    for state, code in expected.items():
+        assert any(f.state == state and f.code == code for f in findings), (state, code, [f.line() for f in findings])
