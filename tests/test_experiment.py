@@ -234,3 +234,18 @@ def test_measured_rate_errors_and_temperatures():
     # sigma(log10 k) = sigma_k / (k ln 10) (first order)
     assert m[0]["log10_error"] == pytest.approx(10.0 / 100.0 / math.log(10))
     assert ex.experiment_temperatures(data, "p") == [250.0, 310.0]
+
+
+def test_manifest_documentation_example_validates():
+    # docs/manifest.md's example [uncertainty] and [experiment] tables must pass our own validation
+    import tomllib
+    from pathlib import Path
+
+    text = (Path(__file__).resolve().parent.parent / "docs" / "manifest.md").read_text(encoding="utf-8")
+    block = text.split("```toml", 1)[1].split("```", 1)[0]
+    doc = tomllib.loads(block)
+    model = unc.model_from_manifest(doc["uncertainty"], recipes=list(doc["recipes"]))
+    assert model.samples == doc["uncertainty"]["samples"]
+    data = ex.validate_experiment(doc["experiment"], pathways=[p["name"] for p in doc["pathways"]])
+    nmr = ex.nmr_rate(data.nmr_broadening[0], model)
+    assert nmr["rate_per_s"] is not None and nmr["rate_per_s"] > nmr["error_per_s"]
