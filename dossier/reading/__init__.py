@@ -65,6 +65,7 @@ def read(path, *, use_cache: bool = True, cache_dir=None) -> Calculation:
         if hit is not None:
             return dataclasses.replace(hit, source=source)
     text = raw.decode("utf-8", errors="replace")
+    text = text.replace("\r\n", "\n")  # CRLF (Windows) copies: cclib's ORCA/xtb parsers miss blocks otherwise
     del raw
     program, unsupported = identify(text)
     if program is None:
