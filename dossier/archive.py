@@ -147,10 +147,33 @@ class ArchiveResult:
 
 
 def _manifest_files(manifest_path: Path) -> list[Path]:
+    """The manifest's files as it writes them, made absolute without resolving links.
+
+    Keeping the written form (not the resolved one) keeps each file at the same place
+    relative to the manifest inside the archive, so the archived manifest finds them.
+    """
     from dossier.project import load_manifest
 
     manifest = load_manifest(manifest_path)
-    return [Path(os.path.abspath(p)) for p in manifest.all_files()]
+    base = Path(os.path.abspath(manifest_path)).parent
+    labels = getattr(manifest, "file_labels", {}) or {}
+    out = []
+    for p in manifest.all_files():
+        label = labels.get(p)
+        if isinstance(label, str) and label.strip():
+            written = Path(label).expanduser()
+            out.append(Path(os.path.normpath(written if written.is_absolute() else base / written)))
+        else:
+            out.append(Path(os.path.abspath(p)))
+    return out
+
+
+def _absolute_in_manifest(manifest_path: Path, files: list[Path]) -> list[Path]:
+    """Files the manifest names by an absolute path (a rebuild from the archive would not use the copy)."""
+    from dossier.project import load_manifest
+
+    labels = getattr(load_manifest(manifest_path), "file_labels", {}) or {}
+    return sorted(Path(v) for v in labels.values() if isinstance(v, str) and Path(v).expanduser().is_absolute())
 
 
 def _inputs_beside(outputs: Iterable[Path]) -> list[Path]:
@@ -400,7 +423,13 @@ def write_archive(
             raise ArchiveError("file named by the manifest is missing", where=str(p))
     inputs = sorted(_inputs_beside(files))
     builder = builder or _default_builder
-    notes: list[str] = []
+    notes: list[str] = [
+        f"the manifest names {p} by an absolute path: the archive holds a copy, but a rebuild from the "
+        "archive reads the original; prefer paths relative to the manifest"
+        for p in _absolute_in_manifest(manifest_path, files)
+    ]
+    for note in notes:
+        _say(progress, note)
     out_abs = Path(os.path.abspath(out_file))
 
     with tempfile.TemporaryDirectory(prefix="dossier-archive-") as scratch:

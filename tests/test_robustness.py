@@ -172,6 +172,41 @@ def test_cli_read_of_one_unreadable_file_is_exactly_one_line(broken, name):
     assert _sha(path) == before[name]
 
 
+def test_every_broken_file_in_a_project_is_a_manifest_error_or_a_finding(broken, tmp_path):
+    """Each broken variant named as a state's geometry and frequency job: load_project gives a one-line
+    ManifestError naming the manifest line, or a Project whose checks report the file."""
+    pytest.importorskip("dossier.checks", reason="dossier.checks not present yet")
+    from dossier.checks import run_checks
+    from dossier.project import load_project
+
+    folder, variants, before = broken
+    good = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out")
+    good_freq = fixture_path("NWChem/basicNWChem7.0/dvb_ir.out")
+    crashes, silent = [], []
+    for name, (path, kind) in sorted(variants.items()):
+        manifest = tmp_path / f"{name}.toml"
+        manifest.write_text(
+            f'[states.good]\ngeometry = "{good}"\nfrequencies = "{good_freq}"\n\n'
+            f'[states.broken]\ngeometry = "{path}"\nfrequencies = "{path}"\n\n'
+            '[[pathways]]\nname = "p"\nreactant = "good"\nproduct = "broken"\n')
+        try:
+            project = load_project(manifest, jobs=1, use_cache=False)
+            findings = run_checks(project)
+        except ManifestError as exc:
+            assert "\n" not in str(exc) and str(exc).startswith(f"{manifest}:"), str(exc)
+            continue
+        except Exception as exc:  # noqa: BLE001 - the crash this test looks for
+            crashes.append(f"{name}: {type(exc).__name__}: {exc}")
+            continue
+        for f in findings:
+            assert f.severity in ("error", "warning", "info") and "\n" not in f.message, f
+        if kind == "cut" and not any(f.severity == "error" and f.state == "broken" for f in findings):
+            silent.append(name)
+    assert not crashes, crashes
+    assert not silent, f"cut-off files passed the checks without an error: {silent}"
+    assert _tree(folder) == before
+
+
 def test_read_of_missing_folder_and_link_loop_is_one_line(tmp_path):
     pytest.importorskip("dossier.reading", reason="dossier.reading not present yet")
     loop = tmp_path / "loop.out"
