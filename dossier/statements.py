@@ -73,12 +73,12 @@ def barrier_shift_statement(shift_kj_mol: float, *, what: str = "the barrier") -
 
 def methods_agreement_statement(result: Any) -> str:
     """Whether the Monte Carlo and first-order intervals agree (takes a RateUncertainty)."""
+    sigmas = (f"1 sigma of log10 k {result.half_width_68:.2f} sampled and {result.analytic_log10_sigma:.2f} "
+              f"linearized; interval ends differ by up to {result.max_end_difference_log10:.2f} decade")
     if result.methods_agree:
-        return (f"Monte Carlo and first-order propagation agree (1 sigma of log10 k: "
-                f"{result.half_width_68:.2f} sampled, {result.analytic_log10_sigma:.2f} linearized)")
-    return (f"Monte Carlo and first-order propagation disagree (1 sigma of log10 k: "
-            f"{result.half_width_68:.2f} sampled, {result.analytic_log10_sigma:.2f} linearized): the rate is "
-            f"not linear in its inputs over their spread, so the sampled interval is the one to use")
+        return f"Monte Carlo and first-order propagation agree ({sigmas})"
+    return (f"Monte Carlo and first-order propagation disagree ({sigmas}): the rate is not linear in its "
+            f"inputs over their spread, so the sampled interval is the one to use")
 
 
 def correlation_statement(levels: Mapping[str, float]) -> str:
@@ -89,7 +89,7 @@ def correlation_statement(levels: Mapping[str, float]) -> str:
     base = ("The sigma given for a level of theory is that of a relative energy, so the errors that cancel "
             "between two states computed with one method are already inside it. ")
     if levels:
-        parts = ", ".join(f"{name}: {rho:.2f}" for name, rho in sorted(levels.items()))
+        parts = ", ".join(f"{rho:.2f} at level {name}" for name, rho in sorted(levels.items()))
         base += ("Two relative energies from the same level (such as the barrier and the driving force of one "
                  "pathway) were drawn with a shared error component, giving them a correlation coefficient of "
                  f"{parts}. ")

@@ -123,6 +123,7 @@ class RateUncertainty:
     analytic_interval_95: tuple[float, float]
     sampling_error_log10: float  # standard error of the Monte Carlo interval ends
     methods_agree: bool
+    max_end_difference_log10: float  # largest |MC - first order| over the four interval ends
     sensitivity_kj_mol_per_decade: float | None  # RT ln 10
     input_sensitivities: dict[str, dict[str, float]]  # per input: decades per unit, variance share
     samples: int
@@ -157,6 +158,7 @@ class RateUncertainty:
                 "analytic_interval_68": [_r(v) for v in self.analytic_interval_68],
                 "analytic_interval_95": [_r(v) for v in self.analytic_interval_95],
                 "methods_agree": self.methods_agree,
+                "max_end_difference_log10": _r(self.max_end_difference_log10),
                 "inputs": dict(self.inputs),
                 "input_sensitivities": {k: {kk: _r(vv) for kk, vv in v.items()} for k, v in self.input_sensitivities.items()},
                 "correlations": dict(self.correlations),
@@ -286,6 +288,7 @@ def propagate(
     an = np.array([an68[0], an68[1], an95[0], an95[1]])
     tolerance = max(0.1, 0.2 * sigma_an) + 4.0 * sampling_error
     agree = bool(np.all(np.isfinite(an)) and np.all(np.abs(mc - an) <= tolerance))
+    max_diff = float(np.max(np.abs(mc - an))) if np.all(np.isfinite(an)) else float("nan")
 
     sens: dict[str, dict[str, float]] = {}
     share_total = variance if variance > 0 else float("nan")
@@ -312,6 +315,7 @@ def propagate(
         analytic_interval_95=an95,
         sampling_error_log10=sampling_error,
         methods_agree=agree,
+        max_end_difference_log10=max_diff,
         sensitivity_kj_mol_per_decade=sensitivity_kj_mol_per_decade(temperature_k) if temperature_k else None,
         input_sensitivities=sens,
         samples=samples,

@@ -99,7 +99,7 @@ def test_comparison_sentence_agrees_with_its_entry():
 
 def test_correlation_sentence_names_the_coefficient():
     text = st.correlation_statement({"dft": 0.5, "ccsd(t)//dft": 0.3})
-    assert re.search(r"ccsd\(t\)//dft: 0\.30, dft: 0\.50", text)
+    assert re.search(r"0\.30 at level ccsd\(t\)//dft, 0\.50 at level dft\.", text)
     assert "independently" in text
     assert "No rate used" in st.correlation_statement({})
 
@@ -112,3 +112,13 @@ def test_methods_agreement_sentence_quotes_both_sigmas():
     assert sampled == pytest.approx(r.half_width_68, abs=0.005)
     assert linear == pytest.approx(r.analytic_log10_sigma, abs=0.005)
     assert linear == pytest.approx(1.0, abs=0.01) and text.startswith("Monte Carlo and first-order propagation agree")
+
+
+def test_disagreement_sentence_quotes_the_end_difference():
+    # exponent quadratic in the input: sampled and linearized intervals differ, the sentence says by how much
+    r = unc.propagate(lambda x, temperature_k: 10 ** (8 - 0.5 * x**2), {"x": unc.Normal(1.0, 1.0)},
+                      fixed={"temperature_k": 298.15}, seed=2)
+    text = st.methods_agreement_statement(r)
+    assert not r.methods_agree and "disagree" in text
+    diff = float(re.search(r"differ by up to (\d+\.\d\d) decade", text)[1])
+    assert diff == pytest.approx(r.max_end_difference_log10, abs=0.005) and diff > 0.3
