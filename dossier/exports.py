@@ -27,6 +27,15 @@ from dossier.errors import BuildError
 FLOAT_DIGITS = 12
 
 
+def _file_mode() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
+_FILE_MODE = _file_mode()
+
+
 # -- atomic writing ------------------------------------------------------------------------
 
 def write_atomic(path: Path, data: bytes | str) -> Path:
@@ -41,6 +50,7 @@ def write_atomic(path: Path, data: bytes | str) -> Path:
                 fh.write(raw)
                 fh.flush()
                 os.fsync(fh.fileno())
+            os.chmod(tmp, _FILE_MODE)
             os.replace(tmp, path)
         except BaseException:
             if os.path.exists(tmp):

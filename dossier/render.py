@@ -451,6 +451,7 @@ def write_pdf(html_text: str, pdf_path: Path, root: Path) -> Path:
     os.close(fd)
     try:
         HTML(string=html_text, base_url=Path(root).resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(tmp)
+        os.chmod(tmp, 0o644)
         os.replace(tmp, pdf_path)
     finally:
         if os.path.exists(tmp):

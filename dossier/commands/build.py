@@ -1,0 +1,52 @@
+"""`dossier build MANIFEST`: write the dossier (HTML, PDF, JSON, CSV, XYZ, LaTeX, BibTeX).
+
+The output folder defaults to ``dossier-build`` beside the manifest. It is replaced as a
+whole when the build succeeds, and only if it is empty or holds an earlier dossier build.
+Exit status: 0 when the dossier was written, even if the checks found errors (they are
+shown prominently in the document and summarised on stderr); 2 on bad input.
+"""
+from __future__ import annotations
+
+import sys
+
+from dossier.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats, stderr_progress
+
+HELP = "build the supporting-information dossier (HTML, PDF, JSON, CSV, XYZ, LaTeX, BibTeX) from a manifest"
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("manifest", metavar="MANIFEST", help="the project manifest (dossier.toml)")
+    parser.add_argument("--out", metavar="DIR", default=None,
+                        help=f"output folder (default: {DEFAULT_OUT_NAME}/ beside the manifest); replaced as a whole")
+    parser.add_argument("--formats", metavar="LIST", default=",".join(ALL_FORMATS),
+                        help=f"comma-separated outputs to write (default: {','.join(ALL_FORMATS)})")
+    parser.add_argument("--templates", metavar="DIR", default=None,
+                        help="folder of templates overriding the built-in ones (rendered sandboxed)")
+    parser.add_argument("--png", action="store_true", help="also write every figure as PNG under figures/")
+    parser.add_argument("--number-atoms", action="store_true", help="number the atoms in the structure drawings")
+    parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
+    parser.add_argument("--no-cache", action="store_true", help="re-read every output file instead of using the cache")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines")
+
+
+def run(args) -> int:
+    formats = parse_formats(args.formats)
+    result = build_dossier(args.manifest, args.out, formats=formats, templates_dir=args.templates, jobs=args.jobs,
+                           use_cache=not args.no_cache, progress=None if args.quiet else stderr_progress,
+                           png=args.png, numbered_atoms=args.number_atoms)
+    checks = result.data.get("checks") or []
+    errors = [c for c in checks if c.get("severity") == "error"]
+    if errors:
+        print(f"build: CHECKS FOUND {len(errors)} ERROR{'S' if len(errors) != 1 else ''} "
+              f"(shown at the top of the dossier):", file=sys.stderr)
+        for c in errors[:10]:
+            where = " ".join(x for x in (c.get("state"), c.get("file")) if x)
+            print(f"  error {c.get('code')}: {where}: {c.get('message')}", file=sys.stderr)
+        if len(errors) > 10:
+            print(f"  ... and {len(errors) - 10} more", file=sys.stderr)
+    if result.n_warnings:
+        print(f"build: {result.n_warnings} warning{'s' if result.n_warnings != 1 else ''} from the checks", file=sys.stderr)
+    print(f"build: wrote {len(result.files)} files to {result.out_dir}", file=sys.stderr)
+    for name in sorted(result.files):
+        print(result.files[name])
+    return 0
