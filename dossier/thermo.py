@@ -485,7 +485,7 @@ class ThermoResult:
         for name, c in self.contributions.items():
             lines.append(
                 f"{name:14s}{c.energy_hartree * kj:13.3f}{c.enthalpy_hartree * kj:13.3f}"
-                f"{c.entropy_j_mol_k:13.3f}{c.heat_capacity_j_mol_k:14.3f}{c.minus_ts_hartree * kj:12.3f}"
+                f"{c.entropy_j_mol_k:13.3f}{c.heat_capacity_j_mol_k:14.3f}{c.minus_ts_hartree * kj + 0.0:12.3f}"
             )
             total = Contribution(
                 total.energy_hartree + c.energy_hartree,
