@@ -105,7 +105,7 @@ class PrintedThermo:
 
 @dataclass
 class Orbitals:
-    energies_hartree: list[list[float]]  # one list per spin channel (alpha[, beta])
+    energies_hartree: list[list[float | None]]  # one list per spin channel (alpha[, beta]); None = not printed
     homo_indices: list[int]  # 0-based, per spin channel
     coefficients: list[list[list[float]]] | None = None  # per spin: n_mo x n_basis
     basis_labels: list[str] | None = None

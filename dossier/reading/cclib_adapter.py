@@ -257,7 +257,8 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
                     if f < nbasis:
                         basis_atoms[f] = atom
         calc.orbitals = Orbitals(
-            energies_hartree=[[float(_ev_to_hartree(e)) for e in channel] for channel in moen],
+            # unprinted orbitals (xtb prints a window around the gap) are NaN in cclib: None here
+            energies_hartree=[[float(_ev_to_hartree(e)) if np.isfinite(e) else None for e in channel] for channel in moen],
             homo_indices=[int(h) for h in homos] if homos is not None else [],
             coefficients=[np.asarray(c, dtype=float).tolist() for c in mocoeffs] if mocoeffs is not None else None,
             basis_labels=list(_get(data, "aonames")) if _get(data, "aonames") is not None else None,

@@ -18,7 +18,7 @@ import re
 
 from dossier.reading.textutil import FLOAT, all_floats, last_block, last_float, last_match
 from dossier.records import ExcitedState, Orbitals
-from dossier.units import EV_CM1, HARTREE_EV
+from dossier.units import AU_DIPOLE_DEBYE, EV_CM1, HARTREE_EV
 
 FUNCTIONALS = (
     "b3lyp", "b3lyp/g", "pbe0", "pbe", "bp86", "blyp", "bhlyp", "tpss", "tpssh", "m06", "m06-2x", "m062x",
@@ -151,6 +151,10 @@ def apply(calc, text: str, data) -> None:
         calc.excited_states = states
 
     _thermo(calc, text)
+
+    dip = re.findall(r"^Total Dipole Moment\s+:\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", text, re.M)
+    if dip:
+        calc.dipole_debye = [float(v) * AU_DIPOLE_DEBYE for v in dip[-1]]
 
 
 def _solvation(text, kw, blocks):
