@@ -422,7 +422,8 @@ def compare_rate(measured: Mapping[str, Any], computed: Mapping[str, Any]) -> di
         sigma_c = 0.5 * (i68[1] - i68[0])
         sigma_e = measured.get("log10_error", 0.0) or 0.0
         combined = math.hypot(sigma_c, sigma_e)
-        centre = computed.get("log10_rate_median", math.log10(kc))
+        centre = computed.get("log10_rate_median")
+        centre = math.log10(kc) if centre is None else centre
         out["combined_z"] = (centre - le) / combined if combined > 0 else None
     for key in ("error_note", "from_nmr"):
         if key in measured:

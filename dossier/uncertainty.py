@@ -565,7 +565,10 @@ class UncertaintyModel:
             a = Assumption(quantity, "every route", sigma, "relative", src, "default")
         self._use(("parameter", f"{stem}|{a.applies_to}"), a)
         if relative:
-            return LogNormal.from_relative(abs(value), sigma) if value != 0 else Normal(0.0, 0.0)
+            if value > 0:
+                return LogNormal.from_relative(value, sigma)
+            # zero or negative (unphysical for lambda; a signed coupling): a normal of that relative width
+            return Normal(float(value), sigma * abs(float(value)))
         return Normal(float(value), sigma)
 
     # -- experimental inputs -----------------------------------------------------------------
@@ -672,7 +675,18 @@ class UncertaintyModel:
         """Keys to merge into a rate entry of dossier.json (log10_rate_interval_68/95, median,
         sensitivity, statement, and an 'uncertainty' detail block), for rate_fn(**values)."""
         inputs, corr = self.rate_inputs(values, levels=levels, routes=routes, level_labels=level_labels)
-        result = propagate(rate_fn, inputs, samples=self.samples, seed=self.seed, correlations=corr)
+        try:
+            result = propagate(rate_fn, inputs, samples=self.samples, seed=self.seed, correlations=corr)
+        except ValueError as exc:
+            # e.g. a zero coupling: the rate is zero at every sample; say so instead of failing the build
+            return {
+                "log10_rate_interval_68": None, "log10_rate_interval_95": None, "log10_rate_median": None,
+                "sensitivity_kj_mol_per_decade": _r(sensitivity_kj_mol_per_decade(float(values["temperature_k"])))
+                if np.ndim(values.get("temperature_k")) == 0 and values.get("temperature_k") else None,
+                "statement": f"no interval could be computed: {exc}",
+                "uncertainty": {"method": "Monte Carlo", "samples": self.samples, "seed": self.seed,
+                                "error": str(exc)},
+            }
         return result.to_dict()
 
 

@@ -225,3 +225,13 @@ def test_through_the_analysis_rate_functions():
     lo, hi = d["log10_rate_interval_95"]
     assert lo < d["log10_rate_median"] < hi
     assert d["uncertainty"]["n_invalid"] == 0
+
+
+def test_annotate_rate_reports_instead_of_failing_on_a_zero_rate():
+    # a zero coupling gives a zero nonadiabatic rate at every sample (k proportional to H_ab^2)
+    def golden_rule_like(coupling_cm1, temperature_k):
+        return np.asarray(coupling_cm1, dtype=float) ** 2 * temperature_k
+
+    d = unc.UncertaintyModel(samples=2000).annotate_rate(golden_rule_like, {"coupling_cm1": 0.0, "temperature_k": T})
+    assert d["log10_rate_interval_68"] is None and d["statement"].startswith("no interval could be computed")
+    assert d["sensitivity_kj_mol_per_decade"] == pytest.approx(5.708, abs=1e-3)
