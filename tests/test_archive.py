@@ -60,6 +60,7 @@ def _make_project(root: Path) -> Path:
 def project(tmp_path_factory):
     pytest.importorskip("dossier.project", reason="dossier.project (project model) not present yet")
     pytest.importorskip("dossier.build", reason="dossier.build (build) not present yet")
+    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
     from dossier.build import build_dossier
 
     root = tmp_path_factory.mktemp("archive-project")
@@ -410,3 +411,38 @@ def test_archive_of_a_manifest_naming_a_missing_file_is_a_one_line_error(tmp_pat
     lines = done.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("dossier: ") and "gone.out" in lines[0]
     assert not out.exists()
+
+
+# -- damaged archives, property-based -------------------------------------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture],
+          derandomize=True)
+@given(data=st.data())
+def test_fuzz_damaged_archive_is_an_archive_error_or_a_failed_report(project, tmp_path, data):
+    good = project["archive"].read_bytes()
+    raw = bytearray(good)
+    how = data.draw(st.sampled_from(["flip", "cut", "splice"]))
+    if how == "flip":
+        for _ in range(data.draw(st.integers(1, 4))):
+            raw[data.draw(st.integers(0, len(raw) - 1))] ^= data.draw(st.integers(1, 255))
+    elif how == "cut":
+        raw = raw[: data.draw(st.integers(0, len(raw) - 1))]
+    else:
+        at = data.draw(st.integers(0, len(raw)))
+        raw[at:at] = data.draw(st.binary(min_size=1, max_size=64))
+    bad = tmp_path / "damaged.tar.gz"
+    bad.write_bytes(bytes(raw))
+    try:
+        report = A.verify_archive(bad)
+    except ArchiveError as exc:
+        assert "\n" not in str(exc) and str(bad) in str(exc)
+        return
+    if report.ok:
+        # only a change gzip and tar ignore (header time, OS byte, trailing padding) may pass
+        with tarfile.open(project["archive"], "r:gz") as a, tarfile.open(bad, "r:gz") as b:
+            assert [(m.name, a.extractfile(m).read()) for m in a.getmembers()] == \
+                   [(m.name, b.extractfile(m).read()) for m in b.getmembers()]
