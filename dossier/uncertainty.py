@@ -167,12 +167,15 @@ class RateUncertainty:
         from dossier.statements import methods_agreement_statement
 
         out["uncertainty"]["agreement_statement"] = methods_agreement_statement(self)
+        if self.n_invalid:
+            out["uncertainty"]["note"] = (f"{self.n_invalid} of {self.samples} samples gave no positive finite rate "
+                                          "and were left out; the interval describes the others")
         return out
 
 
 def _r(value: float | None, digits: int = 4) -> float | None:
-    if value is None:
-        return None
+    if value is None or not math.isfinite(float(value)):
+        return None  # JSON has no NaN or infinity
     return round(float(value), digits)
 
 
