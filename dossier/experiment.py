@@ -166,7 +166,8 @@ def _is_number(value: Any) -> bool:
 
 def experiment_from_project(project: Any) -> ExperimentData:
     """The validated experiment data of a bound Project (names checked against its pathways/states)."""
-    manifest = getattr(project, "manifest", None)
+    # a Project carries its Manifest; a Manifest (load_manifest) locates lines itself
+    manifest = project if hasattr(project, "where") else getattr(project, "manifest", None)
     where_of = manifest.where if manifest is not None and hasattr(manifest, "where") else None
     if where_of is None:
         name = str(getattr(project, "manifest_path", "dossier.toml"))

@@ -827,7 +827,8 @@ def _parameter_table(entry: Any, label: str, w: WhereOf, key: tuple) -> dict[str
 def model_from_project(project: Any) -> UncertaintyModel:
     """The model for a bound Project: its raw `.uncertainty` table, checked against its recipes,
     errors located by the manifest's line finder."""
-    manifest = getattr(project, "manifest", None)
+    # a Project carries its Manifest; a Manifest (load_manifest) locates lines itself
+    manifest = project if hasattr(project, "where") else getattr(project, "manifest", None)
     where_of = manifest.where if manifest is not None and hasattr(manifest, "where") else None
     if where_of is None:
         name = str(getattr(project, "manifest_path", "dossier.toml"))

@@ -249,3 +249,61 @@ def test_manifest_documentation_example_validates():
     data = ex.validate_experiment(doc["experiment"], pathways=[p["name"] for p in doc["pathways"]])
     nmr = ex.nmr_rate(data.nmr_broadening[0], model)
     assert nmr["rate_per_s"] is not None and nmr["rate_per_s"] > nmr["error_per_s"]
+
+
+MANIFEST = """\
+[project]
+title = "line numbers"
+temperatures_k = [298.15]
+
+[sites]
+left = [1]
+right = [2]
+
+[states.a]
+geometry = "a.out"
+
+[states.b]
+geometry = "b.out"
+
+[recipes.dft]
+electronic = "geometry"
+thermal = "none"
+
+[[pathways]]
+name = "a_to_b"
+reactant = "a"
+product = "b"
+donor_site = "left"
+acceptor_site = "right"
+
+[uncertainty.levels.dft]
+relative_energy_kj_mol = 8.0
+{unc_line}
+
+[[experiment.rates]]
+pathway = "a_to_b"
+temperature_k = 298.15
+{exp_line}
+source = "invented"
+"""
+
+
+@pytest.mark.parametrize("unc_line, exp_line, marked, fragment", [
+    ("correlation = 2.0  # <-", "rate_per_s = 1.0e6", "unc", "from 0 to 1"),
+    ("correlation = 0.5", "rate_per_s = -1.0e6  # <-", "exp", "> 0"),
+])
+def test_errors_name_the_manifest_line(tmp_path, unc_line, exp_line, marked, fragment):
+    # the real loader (dossier.project) locates lines; our validators must use it
+    project = pytest.importorskip("dossier.project")
+    for f in ("a.out", "b.out"):
+        (tmp_path / f).write_text("placeholder output\n")
+    path = tmp_path / "dossier.toml"
+    path.write_text(MANIFEST.format(unc_line=unc_line, exp_line=exp_line))
+    line = 1 + next(i for i, t in enumerate(path.read_text().splitlines()) if "# <-" in t)
+    manifest = project.load_manifest(path)
+    check = unc.model_from_project if marked == "unc" else ex.experiment_from_project
+    with pytest.raises(ManifestError) as info:
+        check(manifest)
+    assert info.value.where.endswith(f"dossier.toml:{line}"), str(info.value)
+    assert fragment in str(info.value)
