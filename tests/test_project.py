@@ -270,3 +270,43 @@ def test_documented_finding_codes_match_the_checker():
     doc = (Path(__file__).resolve().parent.parent / "docs" / "manifest.md").read_text(encoding="utf-8")
     table = set(re.findall(r"^\| `([A-Z0-9-]+)` \|", doc, re.M))
     assert table == set(CODES)
+
+
+def test_line_locator_survives_strings_comments_and_multiline_values():
+    # The line of each key, found independently by searching the text for a unique marker.
+    from dossier.project import _Locator
+
+    text = textwrap.dedent('''\
+        a = "x # ] [ {"   # comment with = sign
+        b = [
+          1, # one
+          "two ]",
+          { c = 1, d = "}" },
+        ]
+        'lit key' = 'x'
+        m = """
+        multi [x]
+        y = 2
+        """
+        [t . "u v"]
+        z = 1
+        [[arr]]
+        k = 1
+        [[arr]]
+        k = 2
+        [arr.sub]
+        w = 3
+        ''')
+    lines = text.splitlines()
+
+    def line_with(s, nth=0):
+        return [i + 1 for i, t in enumerate(lines) if s in t][nth]
+
+    loc = _Locator(text)
+    assert loc.line_of(("b", 2, "d")) == line_with('d = "}"')
+    assert loc.line_of(("lit key",)) == line_with("'lit key'")
+    assert loc.line_of(("m",)) == line_with('m = """')
+    assert loc.line_of(("t", "u v", "z")) == line_with("z = 1")
+    assert loc.line_of(("arr", 1, "k")) == line_with("k = 2")
+    assert loc.line_of(("arr", 1, "sub", "w")) == line_with("w = 3")
+    assert loc.line_of(("arr", 1, "nothing")) == line_with("[[arr]]", 1)  # nearest known ancestor
