@@ -172,6 +172,7 @@ def test_cli_read_of_one_unreadable_file_is_exactly_one_line(broken, name):
     assert _sha(path) == before[name]
 
 
+@pytest.mark.slow
 def test_every_broken_file_in_a_project_is_a_manifest_error_or_a_finding(broken, tmp_path):
     """Each broken variant named as a state's geometry and frequency job: load_project gives a one-line
     ManifestError naming the manifest line, or a Project whose checks report the file."""
@@ -504,6 +505,7 @@ def test_fuzz_toml_ish_documents_raise_only_manifest_errors(fuzz_dir, text):
     _load_only_manifest_errors(fuzz_dir, text)
 
 
+@pytest.mark.slow
 @settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture],
           derandomize=True)
 @given(text=_structured())
