@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import re
 
-from dossier.reading.textutil import FLOAT, last_float, last_match
+from dossier.reading.textutil import FLOAT, all_floats, last_float, last_match
 from dossier.records import ELEMENT_SYMBOLS, PrintedThermo
 
 
@@ -66,6 +66,13 @@ def apply(calc, text: str, data) -> None:
         calc.scf_energy_hartree = e
         if "optimization" not in calc.job_kinds:
             calc.optimization_energies_hartree = [e]
+    if "optimization" in calc.job_kinds:
+        # one "* total energy  :   -26.4382425 Eh" line per optimisation cycle (7 decimals);
+        # cclib overwrites the last with the final 12-decimal value, so a cut-off copy would
+        # disagree in the 8th decimal with the complete log: use the cycle lines throughout
+        steps = all_floats(r"^\s*\* total energy\s+:\s+(" + FLOAT + r") Eh", text, re.M)
+        if steps:
+            calc.optimization_energies_hartree = steps
 
     h = last_float(r"\|\s*TOTAL ENTHALPY\s+(" + FLOAT + r") Eh", text)
     g = last_float(r"\|\s*TOTAL FREE ENERGY\s+(" + FLOAT + r") Eh", text)
