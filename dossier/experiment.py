@@ -466,10 +466,14 @@ def compare_band(pathway: Mapping[str, Any], band: Mapping[str, Any]) -> dict[st
     lam = pathway.get("reorganization_energy_kj_mol")
     if lam is not None:
         vs["reorganization_energy_chosen_kj_mol"] = lam
+        vs["reorganization_energy_kj_mol"] = lam  # same key as the band value beside it
         statements.append(st.band_statement("lambda", lam, band["reorganization_energy_kj_mol"], "kJ/mol"))
     hab = pathway.get("coupling_cm1")
     if hab is not None:
         vs["coupling_chosen_cm1"] = hab
+        vs["coupling_cm1"] = hab
+        if lam:
+            vs["ratio_2hab_over_lambda"] = 2.0 * hab * CM1_KJ_MOL / lam
         statements.append(st.band_statement("H_ab", hab, band["coupling_cm1"], "cm-1"))
     out["computed_vs"] = vs
     out["statements"] = statements
