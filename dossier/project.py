@@ -235,6 +235,9 @@ class Project:
     def label(self, item: Calculation | Path | str) -> str:
         """The path of a record or file as the manifest writes it (relative to the manifest)."""
         if isinstance(item, Calculation):
+            for p, rec in self.records.items():
+                if rec is item:
+                    return self.label(p)
             path = Path(item.source.path)
         else:
             path = Path(item)
