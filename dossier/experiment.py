@@ -368,9 +368,13 @@ def barrier_shift_to_match_kj_mol(computed_rate_per_s, measured_rate_per_s, temp
         np.asarray(computed_rate_per_s, dtype=float) / np.asarray(measured_rate_per_s, dtype=float))
 
 
+def _positive(value: Any) -> bool:
+    return _is_number(value) and value > 0
+
+
 def _computed_at(rates: Sequence[Mapping[str, Any]], model_name: str, temperature_k: float) -> dict[str, Any] | None:
     """The computed rate entry of one model at a temperature, interpolated in 1/T if bracketed."""
-    series = sorted((r for r in rates if r.get("model") == model_name and r.get("rate_per_s")),
+    series = sorted((r for r in rates if r.get("model") == model_name and _positive(r.get("rate_per_s"))),
                     key=lambda r: r["temperature_k"])
     for r in series:
         if abs(r["temperature_k"] - temperature_k) <= SAME_TEMPERATURE_K:
