@@ -19,7 +19,7 @@ import pytest
 from dossier import checks
 from dossier.project import bind, load_manifest, load_project
 
-from conftest import DEMO, demo_path, fixture_path
+from conftest import demo_path, fixture_path
 
 G = "Gaussian/basicGaussian16/"
 

@@ -16,7 +16,7 @@ from dossier import checks
 from dossier.cli import main
 from dossier.project import load_manifest, load_project
 
-from conftest import DEMO, demo_path, fixture_path
+from conftest import demo_path, fixture_path
 
 NW = "NWChem/basicNWChem7.0/"
 
