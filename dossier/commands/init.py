@@ -254,7 +254,17 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
         "# site_a = [1, 2, 3]",
         "",
     ]
+    seen: list[_Draft] = []
     for d in drafts:
+        twin = next((o for o in seen if _level_key(o.geom_rec) == _level_key(d.geom_rec)
+                     and (r := _same_geometry(o.geom_rec, d.geom_rec)) is not None
+                     and r <= SAME_GEOMETRY_RMSD_ANGSTROM and o.geom_rec.energy_hartree is not None
+                     and d.geom_rec.energy_hartree is not None
+                     and abs(o.geom_rec.energy_hartree - d.geom_rec.energy_hartree) <= 1e-6), None)
+        seen.append(d)
+        if twin is not None:
+            lines.append(f"# note: same structure and energy as state '{twin.name}' (both optimisations "
+                         "reached one minimum); keep one of them")
         lines.append(f"[states.{_key(d.name)}]")
         lines.append(f"role = {_q(d.role)}  # guess: {d.role_reason} — confirm")
         kind = "optimisation" if _is_opt(d.geom_rec) else "frequency job (no optimisation found)"
@@ -311,12 +321,54 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
         lines.append(f"states = [{', '.join(_q(d.name) for d in minima)}]")
         lines.append(f"recipe = {_q(main_recipe)}")
         lines.append("")
+    fp_lines, explained = _four_point_candidates(drafts, unused, dict(usable), rel)
+    lines += fp_lines
+    unused = [(p, why) for p, why in unused if p not in explained]
     if unused:
         lines.append("# Files not placed in any state (assign them by hand if they belong):")
         for p, why in unused:
             lines.append(f"#   {rel(p)}: {why}")
         lines.append("")
     return "\n".join(lines)
+
+
+def _four_point_candidates(drafts, unused, records, rel):
+    """Commented [pathways.four_point] blocks for pairs of optimised states A, B (same atoms,
+    other charge or multiplicity) with single points of A at B's geometry and of B at A's."""
+    singles = [(p, records[p]) for p, _ in unused if p in records and records[p].vibrations is None]
+    lines: list[str] = []
+    explained: set = set()
+
+    def vertical(state: _Draft, at: _Draft):
+        for p, r in singles:
+            if (r.charge, r.multiplicity) == (state.geom_rec.charge, state.geom_rec.multiplicity) \
+                    and _level_key(r) == _level_key(state.geom_rec):
+                dist = _same_geometry(r, at.geom_rec)
+                if dist is not None and dist <= SAME_GEOMETRY_RMSD_ANGSTROM:
+                    return p
+        return None
+
+    for i, a in enumerate(drafts):
+        for b in drafts[i + 1:]:
+            ga, gb = a.geom_rec, b.geom_rec
+            if not geometry.same_atom_order(ga.elements, gb.elements) \
+                    or (ga.charge, ga.multiplicity) == (gb.charge, gb.multiplicity):
+                continue
+            a_at_b, b_at_a = vertical(a, b), vertical(b, a)
+            if a_at_b is None or b_at_a is None:
+                continue
+            explained |= {a_at_b, b_at_a}
+            lines += [
+                f"# guess: four-point candidate for '{a.name}' (charge {ga.charge}) and '{b.name}' (charge {gb.charge}):",
+                "# move these lines under the [[pathways]] entry they belong to and uncomment them — confirm",
+                "# [pathways.four_point]",
+                f"# reactant_at_reactant = {_q(rel(a.geometry))}",
+                f"# reactant_at_product  = {_q(rel(a_at_b))}",
+                f"# product_at_product   = {_q(rel(b.geometry))}",
+                f"# product_at_reactant  = {_q(rel(b_at_a))}",
+                "",
+            ]
+    return lines, explained
 
 
 def _best_pair(ts: _Draft, minima: list[_Draft]):
