@@ -1,0 +1,80 @@
+"""The reading layer against outside references: a PySCF recomputation of a parsed energy
+at the parsed geometry, and a real NWChem run made during the test and read back."""
+from __future__ import annotations
+
+import re
+import subprocess
+
+import pytest
+
+from conftest import fixture_path, require_program
+from dossier.reading import read
+
+
+@pytest.mark.slow
+def test_pyscf_recomputes_gaussian_dvb_energy_at_parsed_geometry():
+    # Reference library from PyPI: PySCF. 'b3lypg' is B3LYP with VWN functional III, the
+    # variant Gaussian uses (PySCF documentation). Tolerance 0.05 mEh: the two programs'
+    # default DFT integration grids differ (measured: PySCF's default grid reproduces
+    # Gaussian's -382.308266602 to ~0.02 mEh).
+    pyscf = pytest.importorskip("pyscf")
+    from pyscf import dft, gto
+
+    c = read(fixture_path("Gaussian/basicGaussian16/dvb_gopt.out"), use_cache=False)
+    mol = gto.M(
+        atom=[(e, tuple(x)) for e, x in zip(c.elements, c.coordinates_angstrom)],
+        basis="sto-3g",
+        unit="Angstrom",
+        charge=c.charge,
+        spin=c.multiplicity - 1,
+        verbose=0,
+    )
+    mf = dft.RKS(mol)
+    mf.xc = "b3lypg"
+    mf.conv_tol = 1e-9
+    e = mf.kernel()
+    assert mf.converged
+    assert e == pytest.approx(c.energy_hartree, abs=5e-5)
+
+
+OH_INPUT = """start oh_radical
+title "OH radical UKS B3LYP/STO-3G (dossier reading test)"
+geometry units angstrom noautosym
+  O 0.0 0.0 0.0
+  H 0.0 0.0 0.97
+end
+basis
+  * library sto-3g
+end
+dft
+  mult 2
+  xc b3lyp
+end
+property
+  mulliken
+end
+task dft property
+"""
+
+
+def test_real_nwchem_unrestricted_run_spin_populations(tmp_path):
+    exe = require_program("nwchem")
+    (tmp_path / "oh.nw").write_text(OH_INPUT)
+    out = tmp_path / "oh.out"
+    with open(out, "w") as fh:
+        subprocess.run(["nice", "-n", "15", exe, "oh.nw"], cwd=tmp_path, stdout=fh, stderr=subprocess.STDOUT, timeout=120, check=False)
+    c = read(out, use_cache=False)
+    assert c.program == "NWChem" and c.status.word == "ok"
+    assert (c.elements, c.charge, c.multiplicity) == (["O", "H"], 0, 2)
+    assert c.level.unrestricted is True and c.level.functional == "B3LYP"
+    text = out.read_text()
+    # spin populations exactly as printed in the property module's "Atomic spin population"
+    i = text.rfind("Atomic spin population")
+    printed = [float(x) for x in re.findall(r"^\s+\d+\s+\w+\s+\S+\s+(\S+)$", text[i : i + 500], re.M)[:2]]
+    assert c.spin_populations["mulliken"] == printed
+    assert sum(printed) == pytest.approx(1.0, abs=1e-4)  # one unpaired electron
+    assert printed[0] > 0.9  # the radical sits on oxygen (textbook: OH is an oxygen-centred radical)
+    assert c.s2 == pytest.approx(0.75, abs=0.01)  # S(S+1) for a doublet, little contamination in DFT
+    e = float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1])
+    assert c.energy_hartree == pytest.approx(e, abs=5e-13)
+    assert sum(c.charges["mulliken"]) == pytest.approx(0.0, abs=1e-4)
