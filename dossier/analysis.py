@@ -43,7 +43,7 @@ SCHEMA_VERSION = 1
 REFERENCE_TEMPERATURE_K = 298.15
 
 MODEL_EYRING = "eyring-tst"
-MODEL_MARCUS = "marcus-nonadiabatic"
+MODEL_MARCUS = "marcus"
 MODEL_MLJ = "mlj"
 MODEL_ADIABATIC = "marcus-hush-adiabatic"
 MODELS = (MODEL_EYRING, MODEL_MARCUS, MODEL_MLJ, MODEL_ADIABATIC)
@@ -894,7 +894,8 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
                 params = {"coupling_cm1": hr["value_cm1"], "reorganization_energy_kj_mol": lr["value_kj_mol"],
                           "delta_g0_kj_mol": dg0, "temperature_k": ctx.t_ref}
                 combos.append({"reorganization_energy_route": lr["route"], "coupling_route": hr["route"],
-                               "model": MODEL_MARCUS, "parameters": params,
+                               "temperature_k": ctx.t_ref, "model": MODEL_MARCUS,
+                               "function": "dossier.marcus.marcus_nonadiabatic_rate_per_s", "parameters": params,
                                "rate_per_s": marcus.marcus_nonadiabatic_rate_per_s(**params)})
     rung["route_combinations"] = combos
     return rung

@@ -182,7 +182,7 @@ def test_rates_against_independent_codata_formulas(synthetic):
         if r["model"] == "eyring-tst":
             k = C.k * t / C.h * math.exp(-p["barrier_kj_mol"] * 1000 / (C.R * t))
             assert r["rate_per_s"] == pytest.approx(k, rel=1e-10)
-        if r["model"] == "marcus-nonadiabatic":
+        if r["model"] == "marcus":
             h = p["coupling_cm1"] * C.h * C.c * 100
             lam = p["reorganization_energy_kj_mol"] * 1000 / C.N_A
             dg = p["delta_g0_kj_mol"] * 1000 / C.N_A
