@@ -11,6 +11,7 @@ global pyplot state is touched and no display is needed.
 """
 from __future__ import annotations
 
+import functools
 import io
 import math
 import re
@@ -111,8 +112,16 @@ def figure_to_png(fig: Figure, dpi: int = 200) -> bytes:
 
 
 def _figure(width_in: float, height_in: float) -> Figure:
-    with matplotlib.rc_context(_RC):
-        return Figure(figsize=(width_in, height_in), layout="constrained")
+    return Figure(figsize=(width_in, height_in), layout="constrained")
+
+
+def _with_rc(fn):
+    """Artists take their style when created: run the whole drawing under the dossier's rcParams."""
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        with matplotlib.rc_context(_RC):
+            return fn(*args, **kwargs)
+    return wrapper
 
 
 def _t(text) -> str:
@@ -156,6 +165,7 @@ def report_temperature(data: dict) -> float | None:
 
 # -- individual figures -------------------------------------------------------------------
 
+@_with_rc
 def energy_profile_figure(profiles: list[dict], unit: str, temperature_k: float | None, *, join: bool = True) -> Figure:
     """Levels of one pathway or isomer family (one series per recipe), joined by thin lines."""
     fig = _figure(6.2, 3.4)
@@ -223,6 +233,7 @@ def two_state_curves(reorganization_energy_kj_mol: float, delta_g0_kj_mol: float
     return out
 
 
+@_with_rc
 def diabatic_figure(pathway: dict, unit: str) -> Figure:
     lam = pathway["reorganization_energy_kj_mol"]
     curves = two_state_curves(lam, pathway.get("delta_g0_kj_mol") or 0.0, pathway.get("coupling_cm1"))
@@ -244,6 +255,7 @@ def diabatic_figure(pathway: dict, unit: str) -> Figure:
     return fig
 
 
+@_with_rc
 def site_population_figure(states: list[dict], scheme: str) -> Figure:
     """Spin (top) and charge (bottom) summed per site, for every state that has them."""
     sites: list[str] = []
@@ -268,7 +280,8 @@ def site_population_figure(states: list[dict], scheme: str) -> Figure:
         ax.axhline(0.0, color="#1b1b1b", linewidth=0.6)
         ax.set_ylabel(label)
     axes[1].set_xticks(range(len(rows)), [_t(r[0]) for r in rows])
-    axes[0].legend(title="site", fontsize=7, title_fontsize=7, ncols=min(len(sites), 4), loc="upper right")
+    axes[0].legend(title="site", fontsize=7, title_fontsize=7, ncols=min(len(sites), 5), loc="lower center",
+                   bbox_to_anchor=(0.5, 1.0))
     return fig
 
 
@@ -287,6 +300,7 @@ def _cm1_to_nm(x):
         return np.where(x > 0, units.NM_CM1 / np.where(x > 0, x, 1.0), np.inf)
 
 
+@_with_rc
 def spectrum_figure(states: list[dict]) -> Figure:
     rows = [s for s in states if s.get("excited_states")]
     fig = _figure(6.2, 1.1 + 1.5 * len(rows))
@@ -325,9 +339,10 @@ def spectrum_figure(states: list[dict]) -> Figure:
     return fig
 
 
+@_with_rc
 def rates_figure(pathway: dict) -> Figure:
     """log-scale rate against temperature, one series per model, with the 68/95 % bands."""
-    fig = _figure(5.6, 3.6)
+    fig = _figure(6.2, 3.4)
     ax = fig.add_subplot()
     models = []
     for r in pathway.get("rates", []):
@@ -339,14 +354,15 @@ def rates_figure(pathway: dict) -> Figure:
             continue
         st = _style(i)
         t = [r["temperature_k"] for r in rs]
-        if all(r.get("log10_rate_interval_95") for r in rs):
-            ax.fill_between(t, [10 ** r["log10_rate_interval_95"][0] for r in rs], [10 ** r["log10_rate_interval_95"][1] for r in rs],
-                            facecolor="none", edgecolor=st["color"], hatch=_HATCHES[(i % 4) + 1], linewidth=0.0, alpha=0.35)
         if all(r.get("log10_rate_interval_68") for r in rs):
             ax.fill_between(t, [10 ** r["log10_rate_interval_68"][0] for r in rs], [10 ** r["log10_rate_interval_68"][1] for r in rs],
-                            facecolor=_FILLS[3], edgecolor="none", alpha=0.7)
+                            facecolor=st["color"], edgecolor="none", alpha=0.13)
+        if all(r.get("log10_rate_interval_95") for r in rs):
+            for j in (0, 1):
+                ax.plot(t, [10 ** r["log10_rate_interval_95"][j] for r in rs], color=st["color"], linestyle=st["linestyle"],
+                        linewidth=0.7)
         ax.plot(t, [r["rate_per_s"] for r in rs], color=st["color"], linestyle=st["linestyle"], marker=st["marker"],
-                markersize=4, markerfacecolor="white", label=_t(f"{model} (band: 68 % filled, 95 % hatched)" if i == 0 else model))
+                markersize=4, markerfacecolor="white", linewidth=1.6, label=_t(model))
     exp = ((pathway.get("experiment") or {}).get("rates")) or []
     if exp:
         ax.errorbar([e["temperature_k"] for e in exp], [e["rate_per_s"] for e in exp],
@@ -355,10 +371,11 @@ def rates_figure(pathway: dict) -> Figure:
     ax.set_yscale("log")
     ax.set_xlabel("T / K")
     ax.set_ylabel("k / s⁻¹ (model estimate)")
-    ax.legend(fontsize=7, loc="best")
+    ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0))
     return fig
 
 
+@_with_rc
 def populations_figure(rows: list[dict]) -> Figure:
     """Boltzmann populations of one isomer family (per recipe and basis) at each temperature."""
     temps = sorted({r["temperature_k"] for r in rows})
@@ -377,8 +394,8 @@ def populations_figure(rows: list[dict]) -> Figure:
                facecolor=_FILLS[j % len(_FILLS)], edgecolor="#1b1b1b", hatch=_HATCHES[j % len(_HATCHES)], linewidth=0.7, label=_t(s))
     ax.set_xticks(range(len(temps)), [f"{t:g} K" for t in temps])
     ax.set_ylabel("population / %")
-    ax.set_ylim(0, 105)
-    ax.legend(fontsize=7, ncols=min(len(states), 4), loc="upper center")
+    ax.set_ylim(0, 100)
+    ax.legend(fontsize=7, ncols=min(len(states), 5), loc="lower center", bbox_to_anchor=(0.5, 1.0))
     return fig
 
 
@@ -409,6 +426,7 @@ def bonds(elements: list[str], coords: np.ndarray) -> list[tuple[int, int]]:
     return out
 
 
+@_with_rc
 def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool = False) -> Figure:
     """Ball-and-stick projection on the structure's best plane; site atoms filled and hatched.
 
@@ -515,8 +533,9 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
     for n, pw in enumerate(data.get("pathways", [])):
         if pw.get("rates"):
             add(rates_figure(pw), f"rates-{n}", "rates", f"Rates of pathway {pw['name']} against temperature",
-                "Model rate estimates (lines; filled band: 68 % interval, hatched band: 95 % interval of the "
-                "uncertainty propagation) and experimental values (stars, with their stated errors) where given.",
+                "Model rate estimates (thick lines with markers; shaded band: 68 % interval; thin lines of the same "
+                "dash: 95 % interval of the uncertainty propagation) and experimental values (stars, with their stated "
+                "errors) where given.",
                 {"pathway": pw["name"]})
     fam: dict[tuple[str, str, str], list[dict]] = {}
     for row in data.get("isomer_populations", []):

@@ -86,6 +86,32 @@ def fmt_sha(text: str | None) -> str:
     return text or "–"
 
 
+_TEX_ACCENTS = {"\\`a": "à", "\\'e": "é", '\\"u': "ü", '\\"o': "ö", '\\"a': "ä", "\\o": "ø", "\\'a": "á"}
+
+
+def bib_plain(text: Any) -> str:
+    """BibTeX field text as plain text: accents resolved, protecting braces and dash ligatures removed."""
+    out = str(text or "")
+    for tex, char in _TEX_ACCENTS.items():
+        out = out.replace("{" + tex + "}", char).replace(tex, char)
+    out = out.replace("{", "").replace("}", "").replace("---", "—").replace("--", "–")
+    return out.rstrip(".")
+
+
+_UNIT_SUFFIXES = [("_kj_mol", "kJ mol⁻¹"), ("_kcal_mol", "kcal mol⁻¹"), ("_m1_cm1", "M⁻¹ cm⁻¹"), ("_cm1", "cm⁻¹"),
+                  ("_ev", "eV"), ("_nm", "nm"), ("_angstrom", "Å"), ("_per_s", "s⁻¹"), ("_hz", "Hz"), ("_k", "K"),
+                  ("_hartree", "Eh")]
+
+
+def quantity_label(key: Any) -> str:
+    """'coupling_cm1' -> 'coupling / cm⁻¹' (the unit suffix convention of dossier.json)."""
+    key = str(key)
+    for suffix, unit in _UNIT_SUFFIXES:
+        if key.endswith(suffix):
+            return f"{key[: -len(suffix)].replace('_', ' ')} / {unit}"
+    return key.replace("_", " ")
+
+
 class Numberer:
     """Supplement numbering: Table S1, Figure S1 ... in order of first use; same key, same number."""
 
@@ -115,9 +141,9 @@ def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
         loaders.append(jinja2.FileSystemLoader(str(templates_dir)))
     loaders.append(jinja2.FileSystemLoader(str(TEMPLATES_DIR)))
     env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
-                               trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True)
+                               keep_trailing_newline=True)
     env.filters.update(num=fmt_num, rate=fmt_rate, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
-                       sci=lambda x: "–" if x is None else f"{x:.2e}")
+                       sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label)
     return env
 
 
@@ -197,12 +223,14 @@ def methods_view(data: dict) -> dict:
     lv.sort(key=lambda e: (-e["files"], e["label"]))
 
     def distinct(field: str) -> list[str]:
-        seen = []
+        seen: dict[str, str] = {}
         for e in lv:
             v = (e["level"] or {}).get(field)
-            if v and v not in seen:
-                seen.append(v)
-        return seen
+            if v and v.casefold() not in seen:
+                seen[v.casefold()] = v
+            elif v and v.upper() == v and seen[v.casefold()] != v:  # prefer the conventional capitals
+                seen[v.casefold()] = v
+        return list(seen.values())
 
     refs = cited_works(data)
     number = {r["key"]: i + 1 for i, r in enumerate(refs)}
@@ -238,6 +266,23 @@ def profile_table(profile: dict, unit: str) -> dict:
                      "enthalpy": [_energy((p.get("enthalpy_kj_mol") or {}).get(t), unit) for t in temps],
                      "gibbs": [_energy((p.get("gibbs_kj_mol") or {}).get(t), unit) for t in temps]})
     return {"temperatures": [float(t) for t in temps], "rows": rows}
+
+
+def population_tables(data: dict) -> list[dict]:
+    """Isomer populations grouped by (family, recipe, basis): state rows, temperature columns."""
+    groups: dict[tuple, list[dict]] = {}
+    for row in data.get("isomer_populations", []):
+        groups.setdefault((row["family"], row.get("recipe"), row.get("basis")), []).append(row)
+    out = []
+    for (family, recipe, basis), rows in groups.items():
+        rows = sorted(rows, key=lambda r: r["temperature_k"])
+        states: list[str] = []
+        for r in rows:
+            states += [s for s in r["populations"] if s not in states]
+        out.append({"family": family, "recipe": recipe, "basis": basis or "relative",
+                    "temperatures": [r["temperature_k"] for r in rows],
+                    "rows": [{"state": s, "cells": [r["populations"].get(s) for r in rows]} for s in states]})
+    return out
 
 
 def localization_rows(data: dict) -> list[dict]:
@@ -293,7 +338,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "summary": summary_view(data), "methods": methods_view(data), "cite": cite, "cite_for": cite_for,
         "profile_table": lambda p: profile_table(p, unit),
         "energy": lambda v: _energy(v, unit),
-        "loc_rows": localization_rows(data), "sites": sites_in(data),
+        "loc_rows": localization_rows(data), "sites": sites_in(data), "population_tables": population_tables(data),
         "checks": sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or "")),
         "n_errors": sum(1 for c in checks if c.get("severity") == "error"),
         "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),
@@ -316,6 +361,9 @@ def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | N
         raise BuildError(f"template tried something the sandbox forbids: {exc}", where=str(templates_dir or TEMPLATES_DIR)) from exc
     except jinja2.TemplateError as exc:
         raise BuildError(f"template error: {exc}", where=str(templates_dir or TEMPLATES_DIR)) from exc
+    except (TypeError, ValueError, KeyError, AttributeError, ArithmeticError) as exc:
+        raise BuildError(f"template failed on the data ({type(exc).__name__}: {exc})",
+                         where=str(templates_dir or TEMPLATES_DIR)) from exc
     return embed_local_images(text, templates_dir)
 
 
