@@ -80,6 +80,11 @@ class Vibrations:
 
 @dataclass
 class ExcitedState:
+    """One excited state. `contributions` are (from MO, to MO, coefficient) with 1-based MO
+    numbers and the spin letter ("35a" -> "36a"), coefficients normalized so that their squares
+    sum to about 1 over all excitations (cclib's convention: Gaussian's printed restricted
+    coefficients are multiplied by sqrt(2))."""
+
     energy_ev: float
     energy_cm1: float
     oscillator_strength: float | None = None
@@ -212,6 +217,9 @@ class Calculation:
             "level_of_theory": dataclasses.asdict(self.level) | {"label": self.level.label()},
             "status": self.status.word,
             "status_reason": self.status.reason,
+            "normal_termination": self.status.normal_termination,
+            "scf_converged": self.status.scf_converged,
+            "optimization_converged": self.status.optimization_converged,
             "problems": list(self.problems),
             "charge": self.charge,
             "multiplicity": self.multiplicity,
@@ -231,6 +239,7 @@ class Calculation:
             "excited_states": [dataclasses.asdict(x) for x in self.excited_states],
             "s2": self.s2,
             "s2_ideal": self.s2_ideal,
+            "homo_indices": list(self.orbitals.homo_indices) if self.orbitals else None,
             "printed_thermo": dataclasses.asdict(self.printed_thermo) if self.printed_thermo else None,
             "dipole_debye": self.dipole_debye,
         }
