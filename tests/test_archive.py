@@ -64,12 +64,21 @@ def project(tmp_path_factory):
     from dossier.build import build_dossier
 
     root = tmp_path_factory.mktemp("archive-project")
-    manifest = _make_project(root / "study")
-    build = root / "built"
-    build_dossier(manifest, build, formats=("json",))
-    out = root / "study.tar.gz"
-    A.write_archive(manifest, out, build_dir=build)
-    return {"root": root, "manifest": manifest, "build": build, "archive": out}
+    # a record cache of our own: entries left by older reading code must not differ from a fresh read
+    saved = os.environ.get("DOSSIER_CACHE_DIR")
+    os.environ["DOSSIER_CACHE_DIR"] = str(root / "cache")
+    try:
+        manifest = _make_project(root / "study")
+        build = root / "built"
+        build_dossier(manifest, build, formats=("json",))
+        out = root / "study.tar.gz"
+        A.write_archive(manifest, out, build_dir=build)
+        yield {"root": root, "manifest": manifest, "build": build, "archive": out}
+    finally:
+        if saved is None:
+            os.environ.pop("DOSSIER_CACHE_DIR", None)
+        else:
+            os.environ["DOSSIER_CACHE_DIR"] = saved
 
 
 def _members(archive: Path) -> dict[str, bytes]:
@@ -446,3 +455,25 @@ def test_fuzz_damaged_archive_is_an_archive_error_or_a_failed_report(project, tm
         with tarfile.open(project["archive"], "r:gz") as a, tarfile.open(bad, "r:gz") as b:
             assert [(m.name, a.extractfile(m).read()) for m in a.getmembers()] == \
                    [(m.name, b.extractfile(m).read()) for m in b.getmembers()]
+
+
+@pytest.mark.parametrize("case", ["missing", "folder", "plain-tar"])
+def test_verify_of_something_that_is_no_archive_is_one_line(case, tmp_path):
+    target = {"missing": tmp_path / "gone.tar.gz", "folder": tmp_path, "plain-tar": tmp_path / "plain.tar.gz"}[case]
+    if case == "plain-tar":  # a tar without the gzip layer
+        with tarfile.open(target, "w") as tar:
+            info = tarfile.TarInfo(f"{A.ARCHIVE_ROOT}/README.txt")
+            tar.addfile(info, io.BytesIO(b""))
+    done = _cli("verify", str(target))
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    lines = done.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("dossier: ") and str(target) in lines[0], done.stderr
+
+
+def test_archive_into_a_missing_folder_is_one_line_and_writes_nothing(project, tmp_path):
+    out = tmp_path / "no" / "such" / "folder" / "a.tar.gz"
+    done = _cli("archive", str(project["manifest"]), "--out", str(out), "--build", str(project["build"]), "--quiet")
+    assert done.returncode == 2 and "Traceback" not in done.stderr
+    lines = done.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("dossier: ") and str(out) in lines[0], done.stderr
+    assert list(tmp_path.iterdir()) == []
