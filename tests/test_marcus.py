@@ -267,3 +267,26 @@ def test_mode_reorganization_of_a_diatomic_oscillator():
     assert lam[0] == pytest.approx(expected, rel=1e-10)
     assert m.effective_mode_cm1([1.0, 3.0], [1000.0, 1600.0]) == pytest.approx(1450.0)
     assert m.nuclear_frequency_cm1([1.0, 1.0], [300.0, 400.0]) == pytest.approx(math.sqrt(125000.0))
+
+
+def test_mode_projection_on_real_nwchem_modes():
+    # Real NWChem 7.0 frequency output (cclib test data, divinylbenzene): its printed modes are Cartesian
+    # displacements, so M^1/2 d are orthogonal; moving the atoms along one mode must put the whole
+    # harmonic energy (1/2) omega^2 Q^2 into that mode and (almost) none into the others.
+    from conftest import fixture_path
+    from dossier.reading import read
+    from dossier.thermo import atomic_masses_amu
+
+    calc = read(fixture_path("NWChem/basicNWChem7.0/dvb_ir.out"), use_cache=False)
+    w = calc.vibrations.wavenumbers_cm1
+    d = np.asarray(calc.vibrations.displacements)
+    masses = atomic_masses_amu(calc.elements)
+    k = 20
+    x0 = np.asarray(calc.coordinates_angstrom)
+    alpha = 0.02 / np.abs(d[k]).max()
+    lam = m.mode_reorganization_kj_mol(masses, x0, x0 + alpha * d[k], w, d)
+    q2 = (np.sqrt(np.asarray(masses))[:, None] * alpha * d[k]) ** 2  # amu angstrom^2
+    omega = 2 * math.pi * C.c * w[k] * 100
+    expected = 0.5 * omega**2 * q2.sum() * C.atomic_mass * 1e-20 * C.N_A / 1000
+    assert lam[k] == pytest.approx(expected, rel=1e-6)
+    assert (lam.sum() - lam[k]) < 1e-6 * lam[k]
