@@ -340,3 +340,18 @@ def test_demo_every_rate_recomputes(demo):
         n += 1
     assert n > 0
     json.dumps(data, allow_nan=False)
+
+
+def test_experiment_hook_compares_at_the_measured_temperature():
+    p = synthetic_project()
+    p.experiment = {"rates": [{"pathway": "a_to_b", "temperature_k": 300.0, "rate_per_s": 2e7, "error_per_s": 5e6,
+                               "method": "ESR line broadening", "source": "invented for the test"}]}
+    data = analysis.analyse(p)
+    pw = data["pathways"][0]
+    # a rate is computed at the measured temperature too, and the comparison quotes that very rate
+    at300 = {r["model"]: r for r in pw["rates"] if r["temperature_k"] == 300.0}
+    assert set(at300) == set(analysis.MODELS)
+    comp = {c["computed_model"]: c for c in pw["experiment"]["rates"]}
+    for model, c in comp.items():
+        assert c["computed_rate_per_s"] == pytest.approx(at300[model]["rate_per_s"], rel=1e-12)
+        assert c["log10_ratio"] == pytest.approx(math.log10(at300[model]["rate_per_s"] / 2e7), rel=1e-9)
