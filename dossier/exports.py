@@ -141,6 +141,8 @@ def parameter_rows(data: dict) -> list[list[Any]]:
     rows = []
     for pw in data.get("pathways", []):
         for param, routes in (pw.get("routes") or {}).items():
+            if param == "unavailable" or not isinstance(routes, list):
+                continue
             unit = unit_of.get(param, "")
             for r in routes:
                 value = r.get("value_kj_mol", r.get("value_cm1", r.get("value")))

@@ -155,7 +155,10 @@ def _temperature_key(table: dict, temperature_k: float | None) -> str | None:
 
 
 def report_temperature(data: dict) -> float | None:
-    """The temperature the figures use: 298.15 K if the project has it, else its first one."""
+    """The temperature the figures use: the project's reference temperature, else 298.15 K if present, else the first."""
+    ref = (data.get("project") or {}).get("reference_temperature_k")
+    if isinstance(ref, (int, float)):
+        return float(ref)
     temps = data.get("project", {}).get("temperatures_k") or []
     for t in temps:
         if abs(float(t) - 298.15) < 1e-6:
@@ -246,8 +249,10 @@ def diabatic_figure(pathway: dict, unit: str) -> Figure:
     if "adiabatic_lower" in curves:
         ax.plot(x, curves["adiabatic_lower"] * conv, color=_INK[0], linestyle="-", label="adiabatic, lower")
         ax.plot(x, curves["adiabatic_upper"] * conv, color=_INK[0], linestyle="-.", linewidth=1.0, label="adiabatic, upper")
-    top = max(lam * 1.1, (lam + abs(pathway.get("delta_g0_kj_mol") or 0.0)) * 1.05) * conv
-    ax.set_ylim(min(0.0, (pathway.get("delta_g0_kj_mol") or 0.0) * conv) - 0.08 * top, top)
+    dg0 = pathway.get("delta_g0_kj_mol") or 0.0
+    top = max(lam + abs(dg0), float(curves["adiabatic_upper"][len(x) // 2]) if "adiabatic_upper" in curves else 0.0) * 1.1
+    bottom = min(0.0, dg0, float(curves["adiabatic_lower"].min()) if "adiabatic_lower" in curves else 0.0)
+    ax.set_ylim((bottom - 0.06 * (top - bottom)) * conv, top * conv)
     ax.set_xlim(x[0], x[-1])
     ax.set_xlabel("electron-transfer coordinate (0 = reactant, 1 = product)")
     ax.set_ylabel(f"G / {unit_label(unit)}")

@@ -54,7 +54,7 @@ _SUPERSCRIPT = str.maketrans("0123456789-+", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺"
 # -- number formatting (used by templates and by the tests that compare with the PDF) --------
 
 def fmt_num(x: Any, digits: int = 1) -> str:
-    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+    if x is None or isinstance(x, jinja2.Undefined) or (isinstance(x, float) and not math.isfinite(x)):
         return "–"
     if isinstance(x, bool) or not isinstance(x, (int, float)):
         return str(x)
@@ -64,7 +64,7 @@ def fmt_num(x: Any, digits: int = 1) -> str:
 
 def fmt_rate(x: Any) -> str:
     """A rate in s-1 as 'm.m × 10ⁿ' (two significant digits)."""
-    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x) or x <= 0:
+    if isinstance(x, bool) or not isinstance(x, (int, float)) or not math.isfinite(x) or x <= 0:
         return "–"
     exp = math.floor(math.log10(x))
     mant = x / 10**exp
