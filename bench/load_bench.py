@@ -10,10 +10,10 @@ output but gives it its own SHA-256, so the record cache cannot fold copies into
 names one optimisation and one frequency job of the same program; one pathway and one isomer
 family span a few of them.
 
-Each build runs `dossier build` in a child process with an empty cache folder; peak memory is
-that child's (and its reading workers') maximum resident set size from
-resource.getrusage(RUSAGE_CHILDREN), measured for each size in a fresh process. Not a test:
-it prints figures.
+Each build runs build_dossier in a fresh child process with a cache folder of its own (first
+empty: "cold", then again: "warm"). Peak memory is the maximum resident set size of that
+process (resource.getrusage RUSAGE_SELF) and of its largest child process, e.g. a reading worker (RUSAGE_CHILDREN);
+the stage times are the build's own (BuildResult.timings_s). Not a test: it prints figures.
 """
 from __future__ import annotations
 
@@ -66,26 +66,33 @@ def make_project(folder: Path, n_files: int) -> Path:
 
 
 _CHILD = textwrap.dedent("""
-    import json, resource, subprocess, sys, time
-    cmd = json.loads(sys.argv[1])
+    import json, resource, sys, time
+    manifest, out, formats, jobs = sys.argv[1], sys.argv[2], sys.argv[3].split(","), json.loads(sys.argv[4])
+    from dossier.build import build_dossier
+    from dossier.errors import DossierError
     start = time.perf_counter()
-    done = subprocess.run(cmd, capture_output=True, text=True, env=json.loads(sys.argv[2]))
+    try:
+        result = build_dossier(manifest, out, formats=formats, jobs=jobs)
+        rc, timings, error = 0, result.timings_s, ""
+    except DossierError as exc:
+        rc, timings, error = 2, {}, str(exc)
     wall = time.perf_counter() - start
-    peak_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss  # Linux: KiB
-    print(json.dumps({"rc": done.returncode, "wall_s": wall, "peak_kib": peak_kib,
-                      "stderr": done.stderr[-2000:]}))
+    self_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss  # Linux: KiB
+    workers_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss  # largest child (reading workers)
+    print(json.dumps({"rc": rc, "wall_s": wall, "peak_kib": max(self_kib, workers_kib), "self_kib": self_kib,
+                      "workers_kib": workers_kib, "timings_s": timings, "stderr": error}))
 """)
 
 
 def run_build(manifest: Path, out: Path, formats: str, jobs: int | None, cache: Path) -> dict:
-    cmd = [sys.executable, "-m", "dossier", "build", str(manifest), "--out", str(out), "--formats", formats]
-    if jobs:
-        cmd += ["--jobs", str(jobs)]
+    """One build in a fresh process (so its peak memory is this build's only), with its own cache."""
     env = {**os.environ, "DOSSIER_CACHE_DIR": str(cache)}
-    # a fresh measuring process per build, so RUSAGE_CHILDREN holds this build's peak only
-    done = subprocess.run([sys.executable, "-c", _CHILD, json.dumps(cmd), json.dumps(env)],
-                          capture_output=True, text=True, check=True)
-    return json.loads(done.stdout)
+    done = subprocess.run([sys.executable, "-c", _CHILD, str(manifest), str(out), formats, json.dumps(jobs)],
+                          capture_output=True, text=True, env=env)
+    if done.returncode != 0 or not done.stdout.strip():
+        return {"rc": done.returncode or 1, "wall_s": 0.0, "peak_kib": 0, "self_kib": 0, "workers_kib": 0,
+                "timings_s": {}, "stderr": done.stderr[-2000:]}
+    return json.loads(done.stdout.strip().splitlines()[-1])
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -111,8 +118,11 @@ def main(argv: list[str] | None = None) -> int:
                 res = run_build(manifest, folder / f"out-{label.split()[0]}", args.formats, args.jobs, cache)
                 results[(n, label)] = res
                 status = "ok" if res["rc"] == 0 else f"FAILED (exit {res['rc']}): {res['stderr'].strip()[-400:]}"
+                stages = ", ".join(f"{k} {v:.1f}" for k, v in res["timings_s"].items())
                 print(f"{n_real:5d} files ({size_mb:6.1f} MB of logs), {label}: "
-                      f"{res['wall_s']:7.1f} s, peak RSS {res['peak_kib'] / 1024:7.1f} MiB  [{status}]", flush=True)
+                      f"{res['wall_s']:7.1f} s, peak RSS {res['peak_kib'] / 1024:7.1f} MiB "
+                      f"(build process {res['self_kib'] / 1024:.0f}, largest child process {res['workers_kib'] / 1024:.0f})"
+                      f"  [{status}]" + (f"\n        stages (s): {stages}" if stages else ""), flush=True)
         small, large = (results.get((args.small, "cold cache")), results.get((args.files, "cold cache")))
         if small and large and small["rc"] == 0 and large["rc"] == 0:
             print(f"ratio {args.files}/{args.small} files: time x{large['wall_s'] / small['wall_s']:.1f}, "
