@@ -304,8 +304,9 @@ so the same project always gives the same archive. The rates in the dossier are 
 
 def _collect(
     manifest_path: Path, files: list[Path], inputs: list[Path], dossier_dir: Path
-) -> tuple[dict[str, Path], dict[str, Any]]:
-    """Archive member name (inside ARCHIVE_ROOT) -> file on disk, and the layout record."""
+) -> tuple[dict[str, Path], dict[str, Any], dict[Path, str]]:
+    """Archive member name (inside ARCHIVE_ROOT) -> file on disk, the layout record, and the
+    member name of each project file."""
     manifest_abs = Path(os.path.abspath(manifest_path))
     project_paths = [manifest_abs, *files, *inputs]
     root = Path(os.path.commonpath([str(p.parent) for p in project_paths]))
@@ -337,7 +338,21 @@ def _collect(
         "inputs": sorted(project_name(p) for p in inputs),
         "dossier": sorted(built),
     }
-    return members, layout
+    return members, layout, {p: project_name(p) for p in project_paths}
+
+
+def _source_members(data: dict[str, Any], manifest_path: Path, names: dict[Path, str]) -> dict[str, str]:
+    """dossier.json ``sources`` path (as the manifest writes it) -> archive member name."""
+    base = Path(os.path.abspath(manifest_path)).parent
+    out = {}
+    for entry in _source_entries(data):
+        raw = entry.get("path")
+        if isinstance(raw, str):
+            p = Path(raw).expanduser()
+            name = names.get(Path(os.path.normpath(p if p.is_absolute() else base / p)))
+            if name is not None:
+                out[raw] = name
+    return out
 
 
 def _tarinfo(name: str, size: int, mtime: int) -> tarfile.TarInfo:
@@ -450,7 +465,7 @@ def write_archive(
                 formats=tuple(formats) if formats is not None else None,
                 jobs=jobs, use_cache=use_cache, progress=progress,
             )
-        members_on_disk, layout = _collect(manifest_path, files, inputs, use_dir)
+        members_on_disk, layout, names = _collect(manifest_path, files, inputs, use_dir)
         if any(p == out_abs for p in members_on_disk.values()):
             raise ArchiveError("the archive would overwrite a file it archives", where=str(out_abs))
         data_path = members_on_disk[f"{DOSSIER_DIR}/dossier.json"]
@@ -460,6 +475,7 @@ def write_archive(
             raise ArchiveError(f"dossier.json of the build is not readable JSON ({exc})", where=str(data_path)) from None
         if not isinstance(data, dict):
             data = {}
+        layout["source_members"] = _source_members(data, manifest_path, names)
         env = _environment(data, layout, mtime)
         content: dict[str, bytes | Path] = dict(members_on_disk)
         content[ENVIRONMENT_NAME] = (json.dumps(env, indent=2, sort_keys=True) + "\n").encode("utf-8")
@@ -612,11 +628,14 @@ def _check_sources(data: Any, env: Any, digests: dict[str, str], report: VerifyR
     if manifest not in digests:
         report.problems.append(f"the archived manifest {ARCHIVE_ROOT}/{manifest} is not in the archive")
     base = PurePosixPath(manifest).parent
+    mapped = layout.get("source_members") if isinstance(layout.get("source_members"), dict) else {}
     for entry in _source_entries(data):
         raw, recorded = entry.get("path"), entry.get("sha256")
         if not isinstance(raw, str) or not isinstance(recorded, str):
             continue
-        name = os.path.normpath(str(base / raw)).replace(os.sep, "/")
+        name = mapped.get(raw)
+        if not isinstance(name, str):
+            name = os.path.normpath(str(base / raw)).replace(os.sep, "/")
         actual = digests.get(name)
         if actual is None:
             report.problems.append(f"dossier.json names {raw}, which is not archived as {ARCHIVE_ROOT}/{name}")

@@ -477,3 +477,22 @@ def test_archive_into_a_missing_folder_is_one_line_and_writes_nothing(project, t
     lines = done.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("dossier: ") and str(out) in lines[0], done.stderr
     assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.slow
+def test_files_outside_the_manifest_folder_and_absolute_paths_archive_and_rebuild(project, tmp_path):
+    runs = tmp_path / "runs"
+    runs.mkdir()
+    for name in ("dvb_gopt_ks.out", "dvb_ir.out", "dvb_ir.in"):
+        shutil.copyfile(fixture_path(f"{NWCHEM}/{name}"), runs / name)
+    (tmp_path / "m").mkdir()
+    manifest = tmp_path / "m" / "dossier.toml"
+    manifest.write_text(f'[states.dvb]\ngeometry = "../runs/dvb_gopt_ks.out"\nfrequencies = "{runs / "dvb_ir.out"}"\n')
+    result = A.write_archive(manifest, tmp_path / "out.tar.gz", formats=("json",))
+    names = set(result.members)
+    root = A.ARCHIVE_ROOT
+    assert {f"{root}/project/m/dossier.toml", f"{root}/project/runs/dvb_gopt_ks.out",
+            f"{root}/project/runs/dvb_ir.out", f"{root}/project/runs/dvb_ir.in"} <= names
+    assert any("absolute path" in n for n in result.notes)  # said plainly: a rebuild reads the original
+    report = A.verify_archive(result.path, rebuild=True)
+    assert report.ok, report.lines()
