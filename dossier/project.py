@@ -725,6 +725,14 @@ def load_manifest(path: str | Path) -> Manifest:
             setattr(merged, attr, value)
         resolved[name] = merged
     recipes = resolved
+    all_labels = {label for s in states.values() for label in s.single_points}
+    for name, rc in recipes.items():
+        if rc.electronic != "geometry" and rc.electronic not in all_labels:
+            key = ("recipes", name, "electronic") if "electronic" in recipes_raw[name] else ("recipes", name)
+            known = ", ".join(sorted(all_labels)) or "none"
+            raise v.fail(key, f"recipe '{name}' takes its electronic energy from single point '{rc.electronic}', "
+                              f"but no state has single_points.\"{rc.electronic}\" (labels in use: {known}); "
+                              "use \"geometry\" or a label of the states' single_points")
     implicit_recipe = not recipes
     if implicit_recipe:
         recipes = {DEFAULT_RECIPE: Recipe(name=DEFAULT_RECIPE, electronic="geometry", thermal="frequencies")}

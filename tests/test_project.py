@@ -310,3 +310,9 @@ def test_line_locator_survives_strings_comments_and_multiline_values():
     assert loc.line_of(("arr", 1, "k")) == line_with("k = 2")
     assert loc.line_of(("arr", 1, "sub", "w")) == line_with("w = 3")
     assert loc.line_of(("arr", 1, "nothing")) == line_with("[[arr]]", 1)  # nearest known ancestor
+
+
+def test_recipe_naming_a_single_point_label_no_state_has(tmp_path):
+    text = BASE.replace('electronic = "geometry"', 'electronic = "ccsd"  # <-')
+    err = _error(_write(tmp_path, text))
+    assert "no state has" in err.reason and "hi" in err.reason
