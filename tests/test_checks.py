@@ -294,3 +294,20 @@ def test_demo_flawed_manifest_flags_each_flawed_run():
         for word, codes in FLAW_CODES.items():
             if word in Path(label).stem:
                 assert {f.code for f in mine} & codes, (label, [f.line() for f in mine])
+
+
+def test_cli_against_a_previous_build(tmp_path, capsys):
+    from dossier.cli import main
+
+    gopt = fixture_path(G + "dvb_gopt.out")
+    path = tmp_path / "dossier.toml"
+    path.write_text(f'[states.a]\nrole = "minimum"\ngeometry = "{gopt}"\n')
+    build = tmp_path / "build"
+    build.mkdir()
+    sha = hashlib.sha256(gopt.read_bytes()).hexdigest()
+    (build / "dossier.json").write_text(json.dumps({"sources": [{"path": str(gopt), "sha256": sha[::-1]}]}))
+    assert main(["check", str(path), "--against", str(build), "--json"]) == 0  # a changed file is a warning
+    out = json.loads(capsys.readouterr().out)
+    assert [f["file"] for f in out if f["code"] == "SRC-CHANGED"] == [str(gopt)]
+    (build / "dossier.json").write_text("{}")
+    assert main(["check", str(path), "--against", str(build / "dossier.json")]) == 2

@@ -22,13 +22,16 @@ def add_arguments(parser) -> None:
     parser.add_argument("--json", action="store_true",
                         help="print a JSON list of findings (keys severity, code, state, file, message)")
     parser.add_argument("--against", metavar="DOSSIER_JSON", default=None,
-                        help="a previous build's dossier.json: report source files changed since that build")
+                        help="a previous build's dossier.json (or its folder): report source files changed since that build")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
     parser.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
 
 
 def previous_sources(path: str | Path) -> list[dict]:
     """The `sources` list of a previous dossier.json (path + sha256 per file)."""
+    path = Path(path)
+    if path.is_dir():
+        path = path / "dossier.json"  # a build folder
     where = str(path)
     try:
         data = json.loads(Path(path).read_text(encoding="utf-8"))
