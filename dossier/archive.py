@@ -366,6 +366,13 @@ def _tarinfo(name: str, size: int, mtime: int) -> tarfile.TarInfo:
     return info
 
 
+def _check_target(target: Path) -> None:
+    if target.is_dir():
+        raise ArchiveError("is a folder; give a file name such as project.tar.gz", where=str(target))
+    if not target.parent.is_dir():
+        raise ArchiveError("the folder to write the archive into does not exist", where=str(target))
+
+
 def _write_tar_gz(
     target: Path, members: dict[str, bytes | Path], mtime: int, before_rename: Callable[[], None] | None = None
 ) -> None:
@@ -375,10 +382,7 @@ def _write_tar_gz(
     file is removed and whatever was at ``target`` before stays as it was.
     """
     target = Path(os.path.abspath(target))
-    if target.is_dir():
-        raise ArchiveError("is a folder; give a file name such as project.tar.gz", where=str(target))
-    if not target.parent.is_dir():
-        raise ArchiveError("the folder to write the archive into does not exist", where=str(target))
+    _check_target(target)
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
     tmp = Path(tmp_name)
     try:
@@ -446,6 +450,7 @@ def write_archive(
     for note in notes:
         _say(progress, note)
     out_abs = Path(os.path.abspath(out_file))
+    _check_target(out_abs)  # before the build, which takes a while
 
     with tempfile.TemporaryDirectory(prefix="dossier-archive-") as scratch:
         use_dir: Path | None = None
@@ -488,6 +493,11 @@ def write_archive(
             item = content[name]
             sums[name] = hashlib.sha256(item).hexdigest() if isinstance(item, bytes) else sha256_file(item)
         content[CHECKSUMS_NAME] = "".join(f"{sums[n]}  {n}\n" for n in sorted(sums)).encode("utf-8")
+        recorded = {e.get("path"): e.get("sha256") for e in _source_entries(data)}
+        for raw, name in layout["source_members"].items():
+            if recorded.get(raw) != sums[name]:
+                raise ArchiveError("changed since the dossier was built from it; build again and archive",
+                                   where=str(members_on_disk[name]))
         _say(progress, f"writing {out_abs}")
 
         def unchanged() -> None:
