@@ -105,8 +105,12 @@ def run(args) -> int:
         else:
             records.append(res)
     if args.json:
-        json.dump([_clean(r.summary_dict()) for r in records], sys.stdout, indent=1)
-        sys.stdout.write("\n")
+        data = [r.summary_dict() for r in records]
+        try:
+            out = json.dumps(data, allow_nan=False)
+        except ValueError:  # a NaN somewhere: JSON has none, write null
+            out = json.dumps(_clean(data), allow_nan=False)
+        sys.stdout.write(out + "\n")
     elif records:
         print(_table(records))
     return EXIT_SOME_UNREADABLE if failed or (notes and not records) else EXIT_ALL_READ

@@ -111,6 +111,9 @@ def read_many(paths, *, jobs=None, executor: Executor | None = None, use_cache=T
         return results
 
     own = executor is None
+    if own:
+        # load cclib and the supplements once here: forked workers then start ready to parse
+        import dossier.reading.build  # noqa: F401
     pool = executor or ProcessPoolExecutor(max_workers=min(n_jobs, len(todo)))
     workers = getattr(pool, "_max_workers", n_jobs) or n_jobs
     window = max(2, 2 * workers)

@@ -34,8 +34,8 @@ MARKERS = {
         [r"MAXIMUM OPTIMIZATION CYCLES REACHED", r"OPTIMIZATION FAILED"],
     ),
     "NWChem": (
-        r"^\s*Total times\s+cpu:",
-        [r"There is an error in the input file", r"This error has not yet been assigned", r"^\s*\S+:\s.*\berror\b.*\d+\s*$"],
+        r"Total times\s+cpu:",
+        [r"There is an error in the input file", r"This error has not yet been assigned", r"An error occurred in"],
         [r"Calculation failed to converge", r"SCF failed to converge"],
         [r"Optimization converged"],
         [r"Optimization failed", r"failed to converge in \d+ steps"],
@@ -48,8 +48,8 @@ MARKERS = {
         [r"Could not converge geometry optimization", r"OptimizationConvergenceError"],
     ),
     "xtb": (
-        r"^\s*\* finished run on|normal termination of xtb",
-        [r"abnormal termination of xtb", r"^\s*\[ERROR\]"],
+        r"\* finished run on|normal termination of xtb",
+        [r"abnormal termination of xtb", r"\n\s*\[ERROR\]"],
         [r"SCC did not converge", r"Self consistent charge iterator did not converge"],
         [r"GEOMETRY OPTIMIZATION CONVERGED"],
         [r"FAILED TO CONVERGE GEOMETRY OPTIMIZATION"],

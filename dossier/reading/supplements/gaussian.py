@@ -23,8 +23,11 @@ def covers_skipped(skipped) -> bool:
 
 def route(text: str) -> str:
     """The last route section (lines after ' #' up to the dashes), lower case."""
-    m = last_match(r"^ -+\n( #.*?)\n -+\n", text, re.M | re.S)
-    return " ".join(m.group(1).split()).lower() if m else ""
+    i = text.rfind("\n #")
+    if i < 0:
+        return ""
+    j = text.find("\n -", i + 1)
+    return " ".join(text[i + 1 : j if j > 0 else i + 2000].split()).lower()
 
 
 def apply(calc, text: str, data) -> None:
@@ -59,11 +62,11 @@ def apply(calc, text: str, data) -> None:
 
     levels = {}
     for name, pat in (("mp2", r"EUMP2 =\s*(" + FLOAT + ")"), ("mp3", r"EUMP3=\s*(" + FLOAT + ")"),
-                      ("mp4(sdq)", r"UMP4\(SDQ\)=\s*(" + FLOAT + ")"), ("ccsd(t)", r"^ CCSD\(T\)=\s*(-?\d*\.\d+D[-+]\d+)")):
-        v = last_float(pat, text, re.M)
+                      ("mp4(sdq)", r"UMP4\(SDQ\)=\s*(" + FLOAT + ")"), ("ccsd(t)", r"\n CCSD\(T\)=\s*(-?\d*\.\d+D[-+]\d+)")):
+        v = last_float(pat, text)
         if v is not None:
             levels[name] = v
-    if "ccsd(t)" in levels or re.search(r"^ CCSD\b", text, re.M):
+    if "ccsd(t)" in levels or "\n CCSD\n" in text:
         i = text.rfind(" CCSD(T)=")
         head = text[:i] if i > 0 else text
         v = last_float(r"E\(CORR\)=\s*(" + FLOAT + ")", head)

@@ -41,11 +41,11 @@ def _atom_block(text: str, title: str, n_atoms: int):
 
 
 def apply(calc, text: str, data) -> None:
-    if "NWChem Geometry Optimization" in text or re.search(r"^\s*task\s+\w+\s+optimi[sz]e", text, re.M | re.I):
+    if "NWChem Geometry Optimization" in text or re.search(r"task\s+\w+\s+optimi[sz]e", text[:60000].lower()):
         calc.job_kinds.append("optimization")
     if "NWChem Nuclear Hessian and Frequency Analysis" in text or "Vibrational analysis via the FX method" in text:
         calc.job_kinds.append("frequencies")
-    if "spin polarized" in text or re.search(r"^\s*UHF\b|Wavefunction type:\s*spin polarized", text, re.M):
+    if "spin polarized" in text or "Wavefunction type:  spin polarized" in text or re.search(r"\n\s+UHF\b", text):
         calc.level.unrestricted = True
     elif calc.level.unrestricted is None:
         calc.level.unrestricted = False
@@ -62,10 +62,10 @@ def apply(calc, text: str, data) -> None:
         calc.s2 = s2
 
     levels = {}
-    for name, pat in (("ccsd", r"^\s*CCSD total energy / hartree\s*=\s*(" + FLOAT + ")"),
-                      ("ccsd(t)", r"^\s*CCSD\(T\) total energy / hartree\s*=\s*(" + FLOAT + ")"),
-                      ("mp2", r"^\s*Total MP2 energy\s+(" + FLOAT + ")")):
-        v = last_float(pat, text, re.M)
+    for name, pat in (("ccsd", r"CCSD total energy / hartree\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd(t)", r"CCSD\(T\) total energy / hartree\s*=\s*(" + FLOAT + ")"),
+                      ("mp2", r"Total MP2 energy\s+(" + FLOAT + ")")):
+        v = last_float(pat, text)
         if v is not None:
             levels[name] = v
     if levels:

@@ -37,7 +37,7 @@ def covers_skipped(skipped) -> bool:
 def input_keywords(text: str) -> list[str]:
     """Lower-case words of the '!' lines in the echoed input."""
     words: list[str] = []
-    for m in re.finditer(r"^\|\s*\d+>\s*!(.*)$", text, re.M):
+    for m in re.finditer(r"\n\|\s*\d+>\s*!([^\n]*)", text):
         words.extend(m.group(1).lower().split())
     return words
 
@@ -47,7 +47,7 @@ def apply(calc, text: str, data) -> None:
     if m:
         calc.program_version = m.group(1)
     kw = input_keywords(text)
-    blocks = "\n".join(re.findall(r"^\|\s*\d+>\s*(%.*)$", text, re.M)).lower()
+    blocks = "\n".join(re.findall(r"\n\|\s*\d+>\s*(%[^\n]*)", text)).lower()
 
     # Job kinds
     if any(k in kw for k in ("opt", "optts", "tightopt", "verytightopt", "looseopt", "copt", "zopt")) or "THE OPTIMIZATION HAS CONVERGED" in text or "GEOMETRY OPTIMIZATION CYCLE" in text:
@@ -87,14 +87,14 @@ def apply(calc, text: str, data) -> None:
         calc.s2 = s2
 
     # Energies
-    finals = all_floats(r"^FINAL SINGLE POINT ENERGY\s+(" + FLOAT + ")", text, re.M)
-    scf_totals = all_floats(r"^Total Energy\s+:\s+(" + FLOAT + r") Eh", text, re.M)
+    finals = all_floats(r"\nFINAL SINGLE POINT ENERGY\s+(" + FLOAT + ")", text)
+    scf_totals = all_floats(r"\nTotal Energy\s+:\s+(" + FLOAT + r") Eh", text)
     levels = {}
     td_total = False
-    for name, pat in (("mp2", r"^\s*(?:RI-)?MP2 TOTAL ENERGY:\s+(" + FLOAT + ")"),
-                      ("ccsd", r"^E\(CCSD\)\s+\.\.\.\s+(" + FLOAT + ")"),
-                      ("ccsd(t)", r"^E\(CCSD\(T\)\)\s+\.\.\.\s+(" + FLOAT + ")")):
-        v = last_float(pat, text, re.M)
+    for name, pat in (("mp2", r"MP2 TOTAL ENERGY:\s+(" + FLOAT + ")"),
+                      ("ccsd", r"\nE\(CCSD\)\s+\.\.\.\s+(" + FLOAT + ")"),
+                      ("ccsd(t)", r"\nE\(CCSD\(T\)\)\s+\.\.\.\s+(" + FLOAT + ")")):
+        v = last_float(pat, text)
         if v is not None:
             levels[name] = v
     if levels:
@@ -108,7 +108,7 @@ def apply(calc, text: str, data) -> None:
     elif finals and "EXCITED STATES" in text and scf_totals:
         # TD-DFT/CIS: FINAL SINGLE POINT ENERGY is the total energy of the followed root
         # (E(SCF) + E(root 1) by default), not the ground state: take the SCF total.
-        disp = last_float(r"^Dispersion correction\s+(" + FLOAT + ")", text, re.M) or 0.0
+        disp = last_float(r"\nDispersion correction\s+(" + FLOAT + ")", text) or 0.0
         calc.energies_hartree["scf"] = scf_totals[-1] + disp
         calc.scf_energy_hartree = calc.energies_hartree["scf"]
         td_total = True
@@ -152,7 +152,7 @@ def apply(calc, text: str, data) -> None:
 
     _thermo(calc, text)
 
-    dip = re.findall(r"^Total Dipole Moment\s+:\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", text, re.M)
+    dip = re.findall(r"\nTotal Dipole Moment\s+:\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", text)
     if dip:
         calc.dipole_debye = [float(v) * AU_DIPOLE_DEBYE for v in dip[-1]]
 
@@ -169,7 +169,7 @@ def _solvation(text, kw, blocks):
         model = "CPCM"
     if model is None:
         return None
-    eps = last_float(r"^\s*Epsilon\s+\.\.\.\s+(" + FLOAT + ")", text, re.M)
+    eps = last_float(r"Epsilon\s+\.\.\.\s+(" + FLOAT + ")", text)
     return f"{model} (eps={eps:g})" if eps is not None else model
 
 
@@ -303,9 +303,9 @@ def excited_states(text: str) -> list[ExcitedState]:
 def _state_blocks(text):
     """STATE blocks of the last TD-DFT/CIS run: energy, multiplicity, symmetry, contributions."""
     out = []
-    starts = [m for m in re.finditer(r"^(?:TD-DFT(?:/TDA)?|CIS) EXCITED STATES \((SINGLETS|TRIPLETS|.*)\)", text, re.M)]
+    starts = [m for m in re.finditer(r"\n(?:TD-DFT(?:/TDA)?|CIS) EXCITED STATES \((SINGLETS|TRIPLETS|[^\n]*)\)", text)]
     if not starts:
-        starts = [m for m in re.finditer(r"^(?:TD-DFT(?:/TDA)?|CIS) EXCITED STATES", text, re.M)]
+        starts = [m for m in re.finditer(r"\n(?:TD-DFT(?:/TDA)?|CIS) EXCITED STATES", text)]
     for st in starts:
         kind = st.group(1) if st.groups() else None
         block_mult = 3 if kind == "TRIPLETS" else (1 if kind == "SINGLETS" else None)
@@ -341,10 +341,10 @@ def _thermo(calc, text):
     pt = calc.printed_thermo
     if pt is None:
         return
-    h = last_float(r"^Total Enthalpy\s+\.\.\.\s+(" + FLOAT + ")", text, re.M)
-    g = last_float(r"^Final Gibbs free energy\s+\.\.\.\s+(" + FLOAT + ")", text, re.M)
-    z = last_float(r"^Zero point energy\s+\.\.\.\s+(" + FLOAT + ")", text, re.M)
-    t = last_float(r"^Temperature\s+\.\.\.\s+(" + FLOAT + ") K", text, re.M)
+    h = last_float(r"\nTotal Enthalpy\s+\.\.\.\s+(" + FLOAT + ")", text)
+    g = last_float(r"\nFinal Gibbs free energy\s+\.\.\.\s+(" + FLOAT + ")", text)
+    z = last_float(r"\nZero point energy\s+\.\.\.\s+(" + FLOAT + ")", text)
+    t = last_float(r"\nTemperature\s+\.\.\.\s+(" + FLOAT + ") K", text)
     if h is not None:
         pt.enthalpy_hartree = h
     if g is not None:

@@ -64,7 +64,7 @@ def apply(calc, text: str, data) -> None:
     if s2 is not None:
         calc.s2 = s2
 
-    totals = all_floats(r"^\s*Total Energy =\s*(" + FLOAT + ")", text, re.M)
+    totals = all_floats(r"    Total Energy =\s*(" + FLOAT + ")", text)
     e0 = last_float(r"Total E0, Electronic energy at well bottom at 0 \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
     if is_freq and e0 is not None:
         exact = next((t for t in totals if abs(t - e0) < 0.6e-8), None)
@@ -74,10 +74,10 @@ def apply(calc, text: str, data) -> None:
     elif totals:
         calc.energies_hartree["scf"] = totals[-1]
         calc.scf_energy_hartree = totals[-1]
-    for name, pat in (("mp2", r"^\s*\*?\s*MP2 total energy\s*=\s*(" + FLOAT + ")"),
-                      ("ccsd", r"^\s*\*\s*CCSD total energy\s*=\s*(" + FLOAT + ")"),
-                      ("ccsd(t)", r"^\s*\*\s*CCSD\(T\) total energy\s*=\s*(" + FLOAT + ")")):
-        v = last_float(pat, text, re.M | re.I)
+    for name, pat in (("mp2", r"MP2 total energy\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd", r"\* CCSD total energy\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd(t)", r"\* CCSD\(T\) total energy\s*=\s*(" + FLOAT + ")")):
+        v = last_float(pat, text, re.I if name == "mp2" else 0)
         if v is not None:
             for k in [k for k in calc.energies_hartree if k.startswith("cc") and k not in ("ccsd", "ccsd(t)")]:
                 del calc.energies_hartree[k]

@@ -21,7 +21,7 @@ def covers_skipped(skipped) -> bool:
 
 def _rem(text: str) -> dict[str, str]:
     out: dict[str, str] = {}
-    for block in re.findall(r"^\$rem\s*\n(.*?)^\$end", text, re.M | re.S | re.I):
+    for block in re.findall(r"\n\$(?:rem|REM)\s*\n(.*?)\n\$(?:end|END)", text[:200000], re.S):
         for line in block.splitlines():
             parts = line.replace("=", " ").split()
             if len(parts) >= 2 and not parts[0].startswith("!"):
@@ -30,7 +30,7 @@ def _rem(text: str) -> dict[str, str]:
 
 
 def apply(calc, text: str, data) -> None:
-    m = re.search(r"^ Q-Chem (\d+\.\d+(?:\.\d+)?) for", text, re.M)
+    m = re.search(r"\n Q-Chem (\d+\.\d+(?:\.\d+)?) for", text[:20000])
     if m:
         calc.program_version = m.group(1)
     rem = _rem(text)
@@ -54,7 +54,7 @@ def apply(calc, text: str, data) -> None:
     if calc.level.method is None and rem.get("method") == "hf":
         calc.level.method = "HF"
 
-    s2 = last_float(r"^\s*<S\^2> =\s*(" + FLOAT + ")", text, re.M)
+    s2 = last_float(r"<S\^2> =\s*(" + FLOAT + ")", text)
     if s2 is not None:
         calc.s2 = s2
 

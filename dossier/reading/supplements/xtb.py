@@ -70,7 +70,7 @@ def apply(calc, text: str, data) -> None:
         # one "* total energy  :   -26.4382425 Eh" line per optimisation cycle (7 decimals);
         # cclib overwrites the last with the final 12-decimal value, so a cut-off copy would
         # disagree in the 8th decimal with the complete log: use the cycle lines throughout
-        steps = all_floats(r"^\s*\* total energy\s+:\s+(" + FLOAT + r") Eh", text, re.M)
+        steps = all_floats(r"\* total energy\s+:\s+(" + FLOAT + r") Eh", text)
         if steps:
             calc.optimization_energies_hartree = steps
 
