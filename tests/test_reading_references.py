@@ -78,3 +78,45 @@ def test_real_nwchem_unrestricted_run_spin_populations(tmp_path):
     e = float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1])
     assert c.energy_hartree == pytest.approx(e, abs=5e-13)
     assert sum(c.charges["mulliken"]) == pytest.approx(0.0, abs=1e-4)
+
+
+H2O_CATION_INPUT = """start h2o_cation
+title "H2O+ UKS B3LYP/STO-3G, Mulliken analysis from the DFT module (dossier reading test)"
+charge 1
+geometry units angstrom noautosym
+  O  0.000  0.000  0.117
+  H  0.000  0.757 -0.467
+  H  0.000 -0.757 -0.467
+end
+basis
+  * library sto-3g
+end
+dft
+  odft
+  mult 2
+  xc b3lyp
+  mulliken
+end
+task dft energy
+"""
+
+
+def test_real_nwchem_dft_module_mulliken_blocks(tmp_path):
+    # cclib 1.8.1 reads neither "Total Density - Mulliken Population Analysis" nor the
+    # "Spin Density" block that NWChem's DFT module prints with `mulliken`: the supplement does.
+    exe = require_program("nwchem")
+    (tmp_path / "h2o.nw").write_text(H2O_CATION_INPUT)
+    out = tmp_path / "h2o.out"
+    with open(out, "w") as fh:
+        subprocess.run(["nice", "-n", "15", exe, "h2o.nw"], cwd=tmp_path, stdout=fh, stderr=subprocess.STDOUT, timeout=120, check=False)
+    c = read(out, use_cache=False)
+    assert c.status.word == "ok" and (c.charge, c.multiplicity) == (1, 2)
+    text = out.read_text()
+    i = text.rfind("Spin Density - Mulliken Population Analysis")
+    block = text[i:].split("\n")[5:8]
+    assert c.spin_populations["mulliken"] == [float(row.split()[3]) for row in block]
+    # one unpaired electron, within the 2-decimal rounding of three printed values
+    assert sum(c.spin_populations["mulliken"]) == pytest.approx(1.0, abs=0.015)
+    assert sum(c.charges["mulliken"]) == pytest.approx(1.0, abs=0.015)
+    # H2O+ is the 1b1 (oxygen lone-pair) hole: most of the spin on O (textbook MO picture)
+    assert c.spin_populations["mulliken"][0] > 0.8

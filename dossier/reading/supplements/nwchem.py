@@ -33,7 +33,7 @@ def _atom_block(text: str, title: str, n_atoms: int):
         # the rows are consecutive: stop at the first gap larger than one line break run
         if text[pos : m.start()].strip():
             break
-        out.append((float(m.group(1)), float(m.group(2))))
+        out.append((float(m.group(1)), _num(m.group(2))))
         pos = m.end()
         if len(out) == n_atoms:
             break
@@ -74,12 +74,67 @@ def apply(calc, text: str, data) -> None:
         calc.energies_hartree.update(levels)
 
     n = calc.n_atoms
+    # DFT/SCF-module blocks (printed with `mulliken` in the dft block, 2 decimals, every
+    # optimisation step; cclib 1.8.1 reads neither the total nor the spin density block)
+    total_pos, total = _density_block(text, ("Total Density - Mulliken Population Analysis", "Mulliken analysis of the total density"), n)
+    spin_pos, spin = _density_block(text, ("Spin Density - Mulliken Population Analysis", "Mulliken analysis of the spin density"), n)
+    if total:
+        calc.charges["mulliken"] = [_charge(z, p) for z, p in total]
+    if spin:
+        calc.spin_populations["mulliken"] = [float(v) for _z, v in spin]
+    # property module (5 decimals): preferred when it comes after the DFT-module blocks
+    if text.rfind("----- Atomic spin population -----") < spin_pos:
+        return _check_z(calc, total)
     spins = _atom_block(text, "----- Atomic spin population -----", n)
     if spins:
-        calc.spin_populations["mulliken"] = [v for _z, v in spins]
+        calc.spin_populations["mulliken"] = [float(v) for _z, v in spins]
     pops = _atom_block(text, "----- Total      gross population on atoms ----", n)
-    if pops:
-        calc.charges["mulliken"] = [z - p for z, p in pops]
-    # The Z column must agree with the elements cclib read
-    if pops and calc.elements and [int(round(z)) for z, _ in pops] != [ELEMENT_SYMBOLS.index(e) for e in calc.elements]:
+    if pops and text.rfind("----- Total      gross population on atoms ----") > total_pos:
+        calc.charges["mulliken"] = [_charge(z, p) for z, p in pops]
+        total = pops
+    _check_z(calc, total)
+
+
+class _Printed(float):
+    """A float that remembers how many decimals the log printed (to round Z - population)."""
+
+    decimals: int = 6
+
+
+def _num(token: str) -> float:
+    value = _Printed(token)
+    value.decimals = len(token.split(".")[1]) if "." in token else 0
+    return value
+
+
+def _charge(z: float, pop: float) -> float:
+    return round(z - pop, getattr(pop, "decimals", 6))
+
+
+def _check_z(calc, rows) -> None:
+    """The Z column must agree with the elements cclib read."""
+    if rows and calc.elements and [int(round(z)) for z, _ in rows] != [ELEMENT_SYMBOLS.index(e) for e in calc.elements]:
         calc.problems.append("NWChem population block does not match the atom list (ECP or ghost atoms?)")
+
+
+def _density_block(text: str, titles, n_atoms: int):
+    """(position, [(Z, value)]) of the last Mulliken density block with one of `titles`.
+
+    Rows look like '    1 C    6     5.58   2.00  0.72 ...' (index, tag, Z, value, shells).
+    """
+    pos = max(text.rfind(t) for t in titles)
+    if pos < 0 or n_atoms == 0:
+        return -1, None
+    m = re.compile(r"\n -+\s+-+\s+-+\n").search(text, pos, pos + 2000)
+    if not m:
+        return pos, None
+    rows = []
+    for line in text[m.end() :].split("\n", n_atoms)[:n_atoms]:
+        parts = line.split()
+        if len(parts) < 4:
+            return pos, None
+        try:
+            rows.append((float(parts[2]), _num(parts[3])))
+        except ValueError:
+            return pos, None
+    return pos, rows
