@@ -436,6 +436,14 @@ ROUTE_DEFAULTS: dict[str, dict[str, tuple[float, str]]] = {
             "0.2 to 0.3 eV (Jacquemin et al., J. Chem. Theory Comput. 2009, 5, 2420; from memory); 0.26 eV = 25 kJ/mol",
         )
     },
+    "two-state-from-barrier": {
+        "coupling_fraction": (
+            0.5,
+            "H_ab recovered from the adiabatic barrier inherits the barrier's error almost one to one "
+            "(dH_ab ~ -dG*/(1 - 2 H_ab/lambda) for the symmetric two-state model), so it is the least certain "
+            "route (our judgement, no benchmark)",
+        )
+    },
 }
 
 EXPERIMENT_DEFAULTS: dict[str, tuple[float, str]] = {

@@ -235,3 +235,16 @@ def test_annotate_rate_reports_instead_of_failing_on_a_zero_rate():
     d = unc.UncertaintyModel(samples=2000).annotate_rate(golden_rule_like, {"coupling_cm1": 0.0, "temperature_k": T})
     assert d["log10_rate_interval_68"] is None and d["statement"].startswith("no interval could be computed")
     assert d["sensitivity_kj_mol_per_decade"] == pytest.approx(5.708, abs=1e-3)
+
+
+def test_route_defaults_and_manifest_route_override():
+    m = unc.model_from_manifest({"routes": {"four-point": {"reorganization_energy_fraction": 0.05}}})
+    d = m.reorganization_distribution(100.0, "four-point")
+    assert d.sigma_ln == pytest.approx(math.sqrt(math.log1p(0.05**2)))
+    v = m.reorganization_distribution(100.0, "vertical-excitation")  # absolute default: a normal
+    assert isinstance(v, unc.Normal) and v.sigma == unc.ROUTE_DEFAULTS["vertical-excitation"]["reorganization_energy_kj_mol"][0]
+    h = m.coupling_distribution(500.0, "two-state-from-barrier")
+    assert h.sigma_ln == pytest.approx(math.sqrt(math.log1p(0.5**2)))
+    listed = {(a["quantity"], a["applies_to"], a["set_in"]) for a in m.to_dict()["assumptions"]}
+    assert ("reorganization energy", "route four-point", "manifest") in listed
+    assert ("electronic coupling", "route two-state-from-barrier", "default") in listed
