@@ -27,10 +27,9 @@ def exchange_spectrum(freq_hz, site_hz, rates_per_s, populations, natural_width_
     kmat = k.T - np.diag(k.sum(axis=1))
     base = 1j * 2 * np.pi * np.diag(site_hz) - np.pi * natural_width_hz * np.eye(n) + kmat
     p = np.asarray(populations, dtype=float)
-    out = np.empty(len(freq_hz))
-    for m, nu in enumerate(freq_hz):
-        out[m] = -np.real(np.ones(n) @ np.linalg.solve(base - 1j * 2 * np.pi * nu * np.eye(n), p))
-    return out
+    stack = base[None, :, :] - 1j * 2 * np.pi * np.asarray(freq_hz, dtype=float)[:, None, None] * np.eye(n)
+    rhs = np.broadcast_to(p.astype(complex), (len(freq_hz), n))[..., None]
+    return -np.real(np.linalg.solve(stack, rhs)[..., 0].sum(axis=1))
 
 
 def fwhm_hz(freq_hz, spectrum):
