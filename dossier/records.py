@@ -90,6 +90,7 @@ class ExcitedState:
     oscillator_strength: float | None = None
     symmetry: str | None = None  # e.g. "Doublet-A", "Singlet-Bu"
     transition_dipole_au: list[float] | None = None  # ground -> this state, e bohr
+    s2: float | None = None  # <S^2> of the excited state, where printed (unrestricted TDDFT)
     contributions: list[tuple[str, str, float]] = field(default_factory=list)  # (from, to, coef)
 
 

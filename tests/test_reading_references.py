@@ -120,3 +120,39 @@ def test_real_nwchem_dft_module_mulliken_blocks(tmp_path):
     assert sum(c.charges["mulliken"]) == pytest.approx(1.0, abs=0.015)
     # H2O+ is the 1b1 (oxygen lone-pair) hole: most of the spin on O (textbook MO picture)
     assert c.spin_populations["mulliken"][0] > 0.8
+
+
+def _run_nwchem(tmp_path, name, deck):
+    exe = require_program("nwchem")
+    (tmp_path / f"{name}.nw").write_text(deck)
+    out = tmp_path / f"{name}.out"
+    with open(out, "w") as fh:
+        subprocess.run(["nice", "-n", "15", exe, f"{name}.nw"], cwd=tmp_path, stdout=fh, stderr=subprocess.STDOUT, timeout=180, check=False)
+    return out
+
+
+def test_real_nwchem_error_exit_is_failed(tmp_path):
+    out = _run_nwchem(tmp_path, "bad", OH_INPUT.replace("library sto-3g", "library no-such-basis-set"))
+    c = read(out, use_cache=False)
+    assert c.status.word == "failed" and c.status.normal_termination is False
+    assert "error" in c.status.reason.lower()
+    assert c.energy_hartree is None
+
+
+@pytest.mark.slow
+def test_real_nwchem_unrestricted_tddft_roots(tmp_path):
+    deck = H2O_CATION_INPUT.replace("library sto-3g", "library 6-31g").replace("task dft energy", "tddft\n  nroots 3\nend\ntask tddft energy")
+    out = _run_nwchem(tmp_path, "h2o_td", deck)
+    c = read(out, use_cache=False)
+    assert c.status.word == "ok" and "excited-states" in c.job_kinds
+    text = out.read_text()
+    roots = re.findall(r"Root\s+\d+\s+\S+\s+\S+ a\.u\.\s+(\S+) eV\s*\n\s+<S2> =\s+(\S+)", text)
+    dips = re.findall(r"Transition Moments\s+X\s+(\S+)\s+Y\s+(\S+)\s+Z\s+(\S+)", text)
+    assert len(c.excited_states) == len(roots) == 3
+    for st, (ev, s2), d in zip(c.excited_states, roots, dips):
+        assert st.energy_ev == pytest.approx(float(ev), abs=5e-5)  # printed to 4 decimals
+        assert st.s2 == float(s2)
+        assert st.transition_dipole_au == [float(v) for v in d]
+        assert st.energy_cm1 == pytest.approx(float(ev) * 8065.544, rel=1e-4)  # CODATA: 1 eV = 8065.544 cm-1
+    # ground-state <S2> is the "(Exact = 0.7500)" line, not the last root's
+    assert c.s2 == float(re.findall(r"<S2> =\s+(\S+) \(Exact", text)[-1])

@@ -89,6 +89,9 @@ def finalize(calc: Calculation) -> None:
     extra = [lvl for lvl in calc.energies_hartree if lvl not in LEVEL_RANK]
     if present:
         calc.energy_hartree = calc.energies_hartree[present[-1]]
+        top = present[-1]
+        if top not in ("scf", "xtb") and calc.level.method in (None, "HF", "SCF"):
+            calc.level.method = top.upper()  # e.g. a UHF reference with an MP2 energy: an MP2 job
     elif extra:
         calc.energy_hartree = calc.energies_hartree[extra[-1]]
 

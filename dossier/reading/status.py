@@ -35,7 +35,8 @@ MARKERS = {
     ),
     "NWChem": (
         r"Total times\s+cpu:",
-        [r"There is an error in the input file", r"This error has not yet been assigned", r"An error occurred in"],
+        [r"There is an error in the input file", r"There is an error in", r"This error has not yet been assigned",
+         r"This type of error is most commonly associated", r"ARMCI Error", r"MPI_ABORT was invoked"],
         [r"Calculation failed to converge", r"SCF failed to converge"],
         [r"Optimization converged"],
         [r"Optimization failed", r"failed to converge in \d+ steps"],

@@ -57,14 +57,16 @@ def apply(calc, text: str, data) -> None:
         eps = last_float(r"dielectric constant -eps-\s*=\s*(" + FLOAT + ")", text)
         calc.level.solvation = f"COSMO (eps={eps:g})" if eps is not None else "COSMO"
 
-    s2 = last_float(r"<S2>\s*=\s*(" + FLOAT + ")", text)
+    # ground state only: "<S2> = 0.7778 (Exact = 0.7500)"; TDDFT roots print "<S2> = 0.7524" alone
+    s2 = last_float(r"<S2>\s*=\s*(" + FLOAT + r")\s*\(Exact", text)
     if s2 is not None:
         calc.s2 = s2
 
     levels = {}
     for name, pat in (("ccsd", r"CCSD total energy / hartree\s*=\s*(" + FLOAT + ")"),
                       ("ccsd(t)", r"CCSD\(T\) total energy / hartree\s*=\s*(" + FLOAT + ")"),
-                      ("mp2", r"Total MP2 energy\s+(" + FLOAT + ")")):
+                      ("mp2", r"Total MP2 energy\s+(" + FLOAT + ")"),
+                      ("scs-mp2", r"Total SCS-MP2 energy\s+(" + FLOAT + ")")):
         v = last_float(pat, text)
         if v is not None:
             levels[name] = v
@@ -72,6 +74,8 @@ def apply(calc, text: str, data) -> None:
         for k in [k for k in calc.energies_hartree if k != "scf"]:
             del calc.energies_hartree[k]
         calc.energies_hartree.update(levels)
+
+    _tddft_roots(calc, text)
 
     n = calc.n_atoms
     # DFT/SCF-module blocks (printed with `mulliken` in the dft block, 2 decimals, every
@@ -138,3 +142,27 @@ def _density_block(text: str, titles, n_atoms: int):
         except ValueError:
             return pos, None
     return pos, rows
+
+
+def _tddft_roots(calc, text: str) -> None:
+    """Per root of the last TDDFT run: transition dipole (X, Y, Z in a.u.) and <S2>.
+
+    Matched to cclib's states by order and energy ("Root   1   a   0.075629126 a.u.   2.0580 eV").
+    """
+    roots = list(re.finditer(r"Root\s+(\d+)\s+(.*?)\s+(" + FLOAT + r") a\.u\.\s+(" + FLOAT + r") eV", text))
+    if not roots or not calc.excited_states:
+        return
+    last_start = max(i for i, m in enumerate(roots) if m.group(1) == "1")
+    roots = roots[last_start:]
+    if len(roots) != len(calc.excited_states):
+        return
+    for st, m in zip(calc.excited_states, roots):
+        if abs(float(m.group(4)) - st.energy_ev) > 1e-3:
+            return
+        seg = text[m.end() : m.end() + 1500]
+        d = re.search(r"Transition Moments\s+X\s+(" + FLOAT + r")\s+Y\s+(" + FLOAT + r")\s+Z\s+(" + FLOAT + ")", seg)
+        if d:
+            st.transition_dipole_au = [float(d.group(k)) for k in (1, 2, 3)]
+        s2 = re.match(r"\s*<S2> =\s*(" + FLOAT + ")", seg)
+        if s2:
+            st.s2 = float(s2.group(1))
