@@ -504,10 +504,16 @@ def compare_ladder(pathway: Mapping[str, Any], measured: Sequence[Mapping[str, A
                                                                                           m["temperature_k"])),
                     "interpolated": comp["interpolated"],
                 })
-    if rows:
-        best = min(rows, key=lambda r: abs(r["log10_ratio"]))
-        for r in rows:
+    # for each measurement and rate model: which rung comes closest
+    groups: dict[tuple[str, float], list[dict[str, Any]]] = {}
+    for r in rows:
+        groups.setdefault((r["model"], r["temperature_k"]), []).append(r)
+    for (model_name, t), members in groups.items():
+        best = min(members, key=lambda r: abs(r["log10_ratio"]))
+        for r in members:
             r["closest_to_experiment"] = r is best
+        if len(members) > 1:
+            best["statement"] = st.ladder_statement(best["recipe"], model_name, t, best["log10_ratio"], len(members))
     return rows
 
 

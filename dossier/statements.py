@@ -124,3 +124,10 @@ def rate_comparison_statement(entry: Mapping[str, Any]) -> str:
         parts.append(interval_statement(bool(entry["inside_68"]), bool(entry["inside_95"])))
     parts.append(barrier_shift_statement(entry["barrier_shift_to_match_kj_mol"]))
     return f"{head}: " + "; ".join(parts) + "."
+
+
+def ladder_statement(recipe: str, model: str, temperature_k: float, log10_ratio: float, n_rungs: int) -> str:
+    """Which rung of the method ladder comes closest to a measurement."""
+    return (f"Of the {n_rungs} rungs of the method ladder, {recipe} comes closest to the measurement at "
+            f"{temperature_k:.0f} K ({model}): {abs(log10_ratio):.{LOG_DIGITS}f} decades "
+            f"{'above' if log10_ratio > 0 else 'below'} it")

@@ -157,6 +157,9 @@ def test_compare_pathway_inside_and_outside():
     assert band["computed_vs"]["coupling"][0]["route"] == "half-splitting-at-ts"
     ladder = out["ladder"]
     assert [row["recipe"] for row in ladder if row["closest_to_experiment"]] == ["ccsd(t)//dft"]
+    best = next(row for row in ladder if row["closest_to_experiment"])
+    # rate/30 against 2e7: log10(1e9 / 30 / 2e7) = 0.22 decades above
+    assert "ccsd(t)//dft comes closest" in best["statement"] and "0.2 decades above" in best["statement"]
     # no data for another pathway -> None
     assert ex.compare_pathway(dict(p, name="other"), data) is None
 
