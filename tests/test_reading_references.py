@@ -156,3 +156,17 @@ def test_real_nwchem_unrestricted_tddft_roots(tmp_path):
         assert st.energy_cm1 == pytest.approx(float(ev) * 8065.544, rel=1e-4)  # CODATA: 1 eV = 8065.544 cm-1
     # ground-state <S2> is the "(Exact = 0.7500)" line, not the last root's
     assert c.s2 == float(re.findall(r"<S2> =\s+(\S+) \(Exact", text)[-1])
+
+
+def test_real_nwchem_optimisation_out_of_steps_is_not_converged(tmp_path):
+    # OH stretched to 1.30 A, the driver allowed 2 steps: NWChem prints "Failed to converge in
+    # maximum number of steps" and exits with an error; the record says not-converged, not ok.
+    deck = OH_INPUT.replace("H 0.0 0.0 0.97", "H 0.0 0.0 1.30").replace(
+        "property\n  mulliken\nend\ntask dft property", "driver\n  maxiter 2\nend\ntask dft optimize")
+    out = _run_nwchem(tmp_path, "oh_opt", deck)
+    c = read(out, use_cache=False)
+    assert "optimization" in c.job_kinds
+    assert c.status.word == "not-converged" and c.status.optimization_converged is False
+    steps = [float(x) for x in re.findall(r"Total DFT energy =\s+(\S+)", out.read_text())]
+    assert c.optimization_energies_hartree and all(e in steps for e in c.optimization_energies_hartree)
+    assert not any("cclib skipped" in p for p in c.problems)

@@ -102,7 +102,7 @@ def finalize(calc: Calculation) -> None:
         )
 
     # A run that did not finish: keep only what cannot change later in the log.
-    if calc.status.word in ("truncated", "failed"):
+    if calc.status.word in ("truncated", "failed") or (calc.status.scf_converged is False and not calc.status.normal_termination):
         withhold(calc)
     elif calc.status.word != "ok" and calc.status.reason:
         calc.problems.append(calc.status.reason)

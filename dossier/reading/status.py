@@ -39,7 +39,7 @@ MARKERS = {
          r"This type of error is most commonly associated", r"ARMCI Error", r"MPI_ABORT was invoked"],
         [r"Calculation failed to converge", r"SCF failed to converge"],
         [r"Optimization converged"],
-        [r"Optimization failed", r"failed to converge in \d+ steps"],
+        [r"Optimization failed", r"failed to converge in \d+ steps", r"Failed to converge in maximum number of steps", r"optimize failed"],
     ),
     "Psi4": (
         r"\*\*\* Psi4 exiting successfully\.",
@@ -78,23 +78,27 @@ def run_status(program: str, text: str, *, is_optimization: bool) -> RunStatus:
     err = _any(errors, text if program != "Psi4" else tail)
     scf_failed = _any(scf_bad, text)
     status = RunStatus(normal_termination=normal_end, scf_converged=not bool(scf_failed))
+    opt_failed = False
     if is_optimization:
-        if _any(opt_bad, text):
-            status.optimization_converged = False
-        else:
-            status.optimization_converged = bool(_any(opt_ok, text))
-    if err and not normal_end:
+        opt_failed = _any(opt_bad, text) is not None  # the program said so: ran out of steps
+        status.optimization_converged = False if opt_failed else bool(_any(opt_ok, text))
+    if opt_failed:
+        # the run ended (often with an error exit) because the optimisation ran out of steps:
+        # a complete log whose last geometry is not a stationary point
+        status.word = "not-converged"
+        status.reason = "the geometry optimisation did not converge" + ("" if normal_end else " (the program then stopped)")
+    elif scf_failed:
+        status.word = "not-converged"
+        status.reason = f"SCF did not converge: {_line_of(text, scf_failed)}"
+    elif err and not normal_end:
         status.word = "failed"
         status.reason = f"the program stopped with an error: {_line_of(text, err)}"
     elif not normal_end:
         status.word = "truncated"
         status.reason = "the log ends before the program's normal-termination line (cut off or still running)"
-    elif scf_failed:
+    elif is_optimization and not status.optimization_converged:
         status.word = "not-converged"
-        status.reason = f"SCF did not converge: {_line_of(text, scf_failed)}"
-    elif is_optimization and status.optimization_converged is False:
-        status.word = "not-converged"
-        status.reason = "the geometry optimisation did not converge"
+        status.reason = "the run ended normally but the log never says the optimisation converged"
     else:
         status.word = "ok"
     return status
