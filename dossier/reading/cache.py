@@ -16,8 +16,30 @@ from pathlib import Path
 
 from dossier.records import RECORD_SCHEMA_VERSION, Calculation
 
-#: Bump when the reading code changes what it extracts (supplements, normalization).
-READER_VERSION = "2026.12.1-r1"
+def _reader_fingerprint() -> str:
+    """dossier's version plus a digest of the reading code itself (this package and records.py).
+
+    Any change to a supplement, the adapter or the normalization rules changes the digest, so
+    records cached by an older reader are never trusted (no version to forget to bump).
+    """
+    import hashlib
+
+    from dossier import __version__
+
+    here = Path(__file__).resolve().parent
+    files = sorted(here.rglob("*.py")) + [here.parent / "records.py"]
+    digest = hashlib.sha256()
+    for f in files:
+        try:
+            digest.update(f.relative_to(here.parent).as_posix().encode())
+            digest.update(f.read_bytes())
+        except OSError:
+            continue
+    return f"{__version__}-{digest.hexdigest()[:12]}"
+
+
+#: Identifies the reading code; part of every cache key.
+READER_VERSION = _reader_fingerprint()
 
 
 def default_cache_dir() -> Path:
