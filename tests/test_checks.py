@@ -275,6 +275,7 @@ FLAW_CODES = {
     "maxiter": {"OPT-CONV", "RUN-STATUS", "RUN-TRUNCATED"},  # optimisation stopped by a step limit
     "wronggeom": {"SP-GEOM"},  # single point at the unoptimised start geometry
     "wrong_geom": {"SP-GEOM"},
+    "twisted": {"IMAG-TS"},  # a second-order saddle filed as the transition state
     "imag": {"IMAG-MIN", "IMAG-TS"},
     "level": {"LEVEL-MIX"},
     "charge": {"CHARGE-MULT"},
