@@ -331,3 +331,17 @@ def test_excitation_energies_agree_across_programs():
     o = singlets(O6 + "dvb_td.out")
     assert o[0].energy_ev == pytest.approx(g[0].energy_ev, abs=0.05)
     assert_printed(g[0].energy_ev, G16 + "dvb_td.out", r"Excited State   1:\s+\S+\s+(\S+) eV", which=0)
+
+
+@pytest.mark.parametrize("rel", [O6 + "dvb_sp_un_hf.out", O5 + "dvb_sp_un.out", G16 + "dvb_un_sp.log"])
+def test_orbital_coefficients_are_orthonormal_in_the_printed_overlap(rel):
+    # molecular orbitals are orthonormal: C S C^T = 1 (identity of linear algebra), to the
+    # 6-decimal printing of the coefficients (ORCA) or 5 decimals (Gaussian)
+    o = rec(rel).orbitals
+    c = np.array(o.coefficients)
+    s = np.array(o.overlap)
+    assert c.shape == (2, 60, 60) and s.shape == (60, 60)  # 60 STO-3G functions on C10H10 (10x5 + 10x1)
+    for spin in (0, 1):
+        assert np.abs(c[spin] @ s @ c[spin].T - np.eye(60)).max() < 5e-5
+    assert len(o.basis_labels) == len(o.basis_atoms) == 60
+    assert o.basis_atoms.count(0) == 5 and o.basis_atoms.count(19) == 1  # C: 1s2s2p (5), H: 1s
