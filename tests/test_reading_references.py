@@ -170,3 +170,37 @@ def test_real_nwchem_optimisation_out_of_steps_is_not_converged(tmp_path):
     steps = [float(x) for x in re.findall(r"Total DFT energy =\s+(\S+)", out.read_text())]
     assert c.optimization_energies_hartree and all(e in steps for e in c.optimization_energies_hartree)
     assert not any("cclib skipped" in p for p in c.problems)
+
+
+WATER_XYZ = "3\nwater\nO 0.000 0.000 0.117\nH 0.000 0.757 -0.467\nH 0.000 -0.757 -0.467\n"
+
+
+def test_real_xtb_runs_solvation_and_open_shell(tmp_path):
+    exe = require_program("xtb")
+    (tmp_path / "w.xyz").write_text(WATER_XYZ)
+    runs = {"alpb": ["--alpb", "water"], "cation": ["--chrg", "1", "--uhf", "1"]}
+    recs = {}
+    for name, extra in runs.items():
+        out = tmp_path / f"{name}.out"
+        with open(out, "w") as fh:
+            subprocess.run(["nice", "-n", "15", exe, "w.xyz", *extra], cwd=tmp_path, stdout=fh, stderr=subprocess.DEVNULL, timeout=120, check=False)
+        recs[name] = (read(out, use_cache=False), out.read_text())
+    c, text = recs["alpb"]
+    assert c.status.word == "ok" and c.program == "xtb" and c.level.method == "GFN2-xTB"
+    eps = float(re.search(r"Dielectric constant\s+(\S+)", text).group(1))
+    assert c.level.solvation == f"ALPB (water, eps={eps:g})"
+    assert 75 < eps < 82  # water's static dielectric constant, 78.4 at 25 C (CRC handbook), xtb uses 80.2
+    assert c.energy_hartree == float(re.findall(r"\| TOTAL ENERGY\s+(\S+) Eh", text)[-1])
+    ion, text = recs["cation"]
+    assert (ion.charge, ion.multiplicity, ion.level.unrestricted) == (1, 2, True)
+    assert sum(ion.charges["mulliken"]) == pytest.approx(1.0, abs=3 * 5e-4)  # 3 decimals printed
+
+
+def test_real_nwchem_cosmo_level_of_theory(tmp_path):
+    deck = H2O_CATION_INPUT.replace("charge 1\n", "").replace(
+        "dft\n  odft\n  mult 2\n  xc b3lyp\n  mulliken\nend", "cosmo\n  dielec 78.4\nend\ndft\n  xc b3lyp\nend")
+    out = _run_nwchem(tmp_path, "w_cosmo", deck)
+    c = read(out, use_cache=False)
+    assert c.status.word == "ok" and (c.charge, c.multiplicity) == (0, 1)
+    assert c.level.label() == "B3LYP/STO-3G COSMO (eps=78.4)"  # the dielectric the input asked for, as printed
+    assert "dielectric constant -eps-     =  78.40" in out.read_text()
