@@ -208,6 +208,54 @@ def test_every_broken_file_in_a_project_is_a_manifest_error_or_a_finding(broken,
     assert _tree(folder) == before
 
 
+#: Broken variants that still give a record, for the build test (one per kind and program).
+BUILD_VARIANTS = ["nwchem_cut0.out", "orca_latin1.out", "gaussian_crlf.out", "nwchem_hugeline.out"]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("layout", ["pathway", "family"])
+def test_build_of_a_project_with_a_broken_file_is_a_dossier_or_a_one_line_error(broken, tmp_path, layout):
+    """A broken file as the transition state of a pathway (with sites) or as a member of an isomer
+    family: the build writes a dossier (the checks report the file) or fails with a DossierError
+    that names the manifest or the file, and leaves no output folder behind."""
+    pytest.importorskip("dossier.build", reason="dossier.build not present yet")
+    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
+    from dossier.build import build_dossier
+
+    folder, variants, before = broken
+    good = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out")
+    good_freq = fixture_path("NWChem/basicNWChem7.0/dvb_ir.out")
+    other = fixture_path("Gaussian/basicGaussian16/dvb_gopt.out")
+    other_freq = fixture_path("Gaussian/basicGaussian16/dvb_ir.out")
+    tail = ('[[pathways]]\nname = "p"\nreactant = "good"\ntransition_state = "broken"\nproduct = "other"\n'
+            'donor_site = "x"\nacceptor_site = "y"\n' if layout == "pathway"
+            else '[[isomer_families]]\nname = "f"\nstates = ["good", "other", "broken"]\n')
+    problems = []
+    for name in BUILD_VARIANTS:
+        path = variants[name][0]
+        manifest = tmp_path / f"{name}.toml"
+        manifest.write_text(
+            '[sites]\nx = [1, 2]\ny = [3, 4]\n\n'
+            f'[states.good]\ngeometry = "{good}"\nfrequencies = "{good_freq}"\n\n'
+            f'[states.other]\ngeometry = "{other}"\nfrequencies = "{other_freq}"\n\n'
+            f'[states.broken]\ngeometry = "{path}"\nfrequencies = "{path}"\n\n' + tail)
+        out = tmp_path / f"out-{name}"
+        try:
+            result = build_dossier(manifest, out, formats=("json", "csv", "xyz", "tex", "bib"), jobs=1,
+                                   use_cache=False)
+        except DossierError as exc:
+            if "\n" in str(exc) or (str(manifest) not in str(exc) and str(path) not in str(exc)):
+                problems.append(f"{name}: error names neither the manifest nor the file: {exc}")
+            if out.exists():
+                problems.append(f"{name}: failed build left {out}")
+        except Exception as exc:  # noqa: BLE001 - the crash this test looks for
+            problems.append(f"{name}: {type(exc).__name__}: {exc}")
+        else:
+            assert (result.out_dir / "dossier.json").is_file()
+    assert not problems, problems
+    assert _tree(folder) == before
+
+
 def test_read_of_missing_folder_and_link_loop_is_one_line(tmp_path):
     pytest.importorskip("dossier.reading", reason="dossier.reading not present yet")
     loop = tmp_path / "loop.out"
