@@ -204,3 +204,14 @@ def test_real_nwchem_cosmo_level_of_theory(tmp_path):
     assert c.status.word == "ok" and (c.charge, c.multiplicity) == (0, 1)
     assert c.level.label() == "B3LYP/STO-3G COSMO (eps=78.4)"  # the dielectric the input asked for, as printed
     assert "dielectric constant -eps-     =  78.40" in out.read_text()
+
+
+def test_real_nwchem_dispersion_in_level_of_theory(tmp_path):
+    deck = H2O_CATION_INPUT.replace("charge 1\n", "").replace(
+        "dft\n  odft\n  mult 2\n  xc b3lyp\n  mulliken\nend", "dft\n  xc b3lyp\n  disp vdw 4\nend")
+    out = _run_nwchem(tmp_path, "w_disp", deck)
+    c = read(out, use_cache=False)
+    text = out.read_text()
+    assert "DFT-D3BJ Model" in text  # NWChem's own statement of the model it used
+    assert c.level.dispersion == "D3(BJ)" and c.level.label() == "B3LYP/STO-3G-D3(BJ)"
+    assert c.energy_hartree == float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1])

@@ -62,6 +62,11 @@ def apply(calc, text: str, data) -> None:
         calc.level.solvation = f"COSMO (eps={eps:g})" if eps is not None else "COSMO"
 
     # ground state only: "<S2> = 0.7778 (Exact = 0.7500)"; TDDFT roots print "<S2> = 0.7524" alone
+    # "Dispersion Parameters ... DFT-D3BJ Model" printed by the DFT module (NWChem 7.0.2)
+    disp = re.search(r"Dispersion Parameters\s*\n[\s-]*\n?\s*DFT-(D\w+?)(BJ)? Model", text)
+    if disp:
+        calc.level.dispersion = f"{disp.group(1)}(BJ)" if disp.group(2) else disp.group(1)
+
     s2 = last_float(r"<S2>\s*=\s*(" + FLOAT + r")\s*\(Exact", text)
     if s2 is not None:
         calc.s2 = s2
