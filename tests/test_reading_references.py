@@ -214,4 +214,5 @@ def test_real_nwchem_dispersion_in_level_of_theory(tmp_path):
     text = out.read_text()
     assert "DFT-D3BJ Model" in text  # NWChem's own statement of the model it used
     assert c.level.dispersion == "D3(BJ)" and c.level.label() == "B3LYP/STO-3G-D3(BJ)"
-    assert c.energy_hartree == float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1])
+    # printed to 12 decimals; cclib's eV round trip adds ~1e-14
+    assert c.energy_hartree == pytest.approx(float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1]), abs=5e-13)
