@@ -248,3 +248,25 @@ def test_route_defaults_and_manifest_route_override():
     listed = {(a["quantity"], a["applies_to"], a["set_in"]) for a in m.to_dict()["assumptions"]}
     assert ("reorganization energy", "route four-point", "manifest") in listed
     assert ("electronic coupling", "route two-state-from-barrier", "default") in listed
+
+
+def test_mc_quantiles_through_marcus_equal_the_mapped_input_quantiles():
+    # for a rate monotonic in its one uncertain input, quantiles map through exactly:
+    # q_p(log10 k) = log10 k(dG0 at q_(1-p)) when k falls as dG0 rises (normal Marcus region)
+    marcus = pytest.importorskip("dossier.marcus")
+    lam, mu, sigma = 100.0, 0.0, 8.0  # dG0 + lambda stays positive over +-6 sigma
+    fixed = {"coupling_cm1": 200.0, "reorganization_energy_kj_mol": lam, "temperature_k": T}
+    r = unc.propagate(marcus.marcus_nonadiabatic_rate_per_s, {"delta_g0_kj_mol": unc.Normal(mu, sigma)},
+                      fixed=fixed, seed=13)
+
+    def log10k(dg0):
+        return math.log10(marcus.marcus_nonadiabatic_rate_per_s(delta_g0_kj_mol=dg0, **fixed))
+
+    lo68 = log10k(mu + sigma * stats.norm.ppf(1 - unc.QUANTILES_68[0]))
+    hi95 = log10k(mu + sigma * stats.norm.ppf(1 - unc.QUANTILES_95[1]))
+    # sampling error in log10 k units, plus a little for the curvature inside one SE
+    assert r.log10_rate_interval_68[0] == pytest.approx(lo68, abs=4 * r.sampling_error_log10)
+    assert r.log10_rate_interval_95[1] == pytest.approx(hi95, abs=4 * r.sampling_error_log10)
+    # first order: d log10 k / d dG0 = -(lambda + dG0) / (2 lambda RT ln 10) at the centre
+    rt = c.R * T / 1000.0
+    assert r.analytic_log10_sigma == pytest.approx((lam + mu) * sigma / (2 * lam * rt * math.log(10)), rel=1e-4)
