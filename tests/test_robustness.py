@@ -554,7 +554,7 @@ def test_fuzz_toml_ish_documents_raise_only_manifest_errors(fuzz_dir, text):
 
 
 @pytest.mark.slow
-@settings(max_examples=300, deadline=None, database=None, derandomize=True,
+@settings(max_examples=200, deadline=None, database=None, derandomize=True,
           suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(text=_structured())
 def test_fuzz_wrong_types_in_a_valid_structure_raise_only_manifest_errors(fuzz_dir, text):
