@@ -345,3 +345,15 @@ def test_orbital_coefficients_are_orthonormal_in_the_printed_overlap(rel):
         assert np.abs(c[spin] @ s @ c[spin].T - np.eye(60)).max() < 5e-5
     assert len(o.basis_labels) == len(o.basis_atoms) == 60
     assert o.basis_atoms.count(0) == 5 and o.basis_atoms.count(19) == 1  # C: 1s2s2p (5), H: 1s
+
+
+def test_psi4_finite_difference_trim_changes_nothing():
+    # the displaced-geometry runs are skipped before cclib for speed; the record must be the
+    # same as when cclib reads the whole log
+    from dossier.reading.build import build_record
+    from dossier.records import Source
+
+    rel = P4 + "dvb_ir_rks.out"
+    t = text(rel)
+    src = Source(path=rel, sha256="x", size_bytes=len(t))
+    assert build_record(t, "Psi4", src) == build_record(t, "Psi4", src, trim_for_cclib=False)

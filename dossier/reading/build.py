@@ -15,15 +15,16 @@ from dossier.records import Calculation, Source
 LEVEL_RANK = ("xtb", "scf", "mp2", "mp3", "mp4(sdq)", "mp4", "ccsd", "ccsd(t)")
 
 
-def build_record(text: str, program: str, source: Source) -> Calculation:
+def build_record(text: str, program: str, source: Source, *, trim_for_cclib: bool = True) -> Calculation:
     # A cut-off log may end inside a line (a number cut in half): parse whole lines only.
     cut = text.rfind("\n")
     parse_text = text if text.endswith("\n") or cut < 0 else text[: cut + 1]
     orca6 = program == "ORCA" and re.search(r"Program Version 6\.", text[:20000]) is not None
-    data, notes, skipped = parse_with_cclib(parse_text, program, orca6=orca6)
+    supplement = BY_PROGRAM[program]
+    trim = getattr(supplement, "for_cclib", None) if trim_for_cclib else None
+    data, notes, skipped = parse_with_cclib(trim(parse_text) if trim else parse_text, program, orca6=orca6)
     calc = to_calculation(data, source, program)
     calc.problems.extend(notes)
-    supplement = BY_PROGRAM[program]
     supplement.apply(calc, parse_text, data)
     unexplained = [s for s in skipped if not supplement.covers_skipped(s)]
     if unexplained:

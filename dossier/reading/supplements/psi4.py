@@ -23,6 +23,25 @@ def covers_skipped(skipped) -> bool:
     return False
 
 
+def for_cclib(text: str) -> str:
+    """The text cclib needs from a finite-difference frequency job: the reference run and the
+    results, without the other displaced-geometry runs (the first nested run is the reference,
+    "including the reference geometry"; the displaced ones add nothing the record keeps and
+    are most of the parsing time: 73 of 74 runs in the fixture's dvb_ir_rks.out).
+    tests/test_reading_fixtures.py checks that the record is the same either way.
+    """
+    start = text.find("//    FiniteDifference Computations  //")
+    end = text.find("//      FiniteDifference Results     //")
+    if start < 0 or end < 0:
+        return text
+    first_stop = text.find("Psi4 stopped on:", start)
+    if first_stop < 0 or first_stop > end:
+        return text
+    keep_to = text.find("\n", first_stop) + 1
+    cut_from = text.rfind("\n", 0, text.rfind("//>>>>", 0, end)) + 1
+    return text[:keep_to] + text[cut_from:]
+
+
 def _input_echo(text: str) -> str:
     m = re.search(r"==> Input File <==\n\n-+\n(.*?)\n-+", text, re.S)
     return m.group(1) if m else text[:5000]
