@@ -208,42 +208,38 @@ def _hirshfeld(text, n_atoms):
 
 
 def _orbitals(text):
+    """The last ORBITAL ENERGIES block: one table (restricted) or SPIN UP / SPIN DOWN tables.
+
+    Rows: "   0   1.0000     -11.307857      -307.7024    1-Bu" (NO, OCC, E(Eh), E(eV), irrep).
+    """
     i = text.rfind("ORBITAL ENERGIES\n----------------")
     if i < 0:
         return None
-    chunk = text[i : i + 400000]
-    channels = []
-    occs = []
-    row = re.compile(r"^\s*(\d+)\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")(?:\s+\S+)?\s*$")
-    current = None
-    for line in chunk.split("\n")[2:]:
-        if "SPIN UP ORBITALS" in line or "SPIN DOWN ORBITALS" in line or (current is None and line.strip().startswith("NO")):
-            if current is None or current:
-                current = []
-                channels.append(current)
-                occs.append([])
-            continue
-        if line.strip().startswith("NO"):
-            continue
-        m = row.match(line)
-        if m:
-            current.append(float(m.group(3)))
-            occs[-1].append(float(m.group(2)))
-            continue
-        if current and not line.strip():
-            if len(channels) == 2 or "SPIN DOWN" not in chunk[: chunk.find(line) + 200]:
-                if len(channels) == 2 or "SPIN UP ORBITALS" not in chunk[:200]:
-                    break
-            continue
-        if current and line.strip():
-            break
-    channels = [c for c in channels if c]
-    if not channels:
-        return None
-    homos = []
-    for occ in occs[: len(channels)]:
-        idx = [k for k, o in enumerate(occ) if o > 0.5]
-        homos.append(idx[-1] if idx else -1)
+    row = re.compile(r"\s*(\d+)\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")(?:\s+\S+)?\s*$")
+    head = text[i : i + 300]
+    n_tables = 2 if "SPIN UP ORBITALS" in head else 1
+    pos = i
+    channels, homos = [], []
+    for _ in range(n_tables):
+        h = text.find("  NO   OCC", pos)
+        if h < 0:
+            return None
+        energies, occ = [], []
+        lines = text[text.find("\n", h) + 1 :].split("\n", 2000)
+        consumed = 0
+        for line in lines:
+            m = row.match(line)
+            if not m:
+                break
+            occ.append(float(m.group(2)))
+            energies.append(float(m.group(3)))
+            consumed += len(line) + 1
+        if not energies:
+            return None
+        channels.append(energies)
+        occupied = [k for k, o in enumerate(occ) if o > 0.5]
+        homos.append(occupied[-1] if occupied else -1)
+        pos = text.find("\n", h) + 1 + consumed
     return Orbitals(energies_hartree=channels, homo_indices=homos)
 
 
