@@ -357,3 +357,16 @@ def test_psi4_finite_difference_trim_changes_nothing():
     t = text(rel)
     src = Source(path=rel, sha256="x", size_bytes=len(t))
     assert build_record(t, "Psi4", src) == build_record(t, "Psi4", src, trim_for_cclib=False)
+
+
+def test_qchem_chelpg_is_the_first_table():
+    # Q-Chem 5.4 prints two "ChElPG" tables; cclib keeps the second, whose values (+-22 e) are
+    # no atomic charges. Fitted charges of a hydrocarbon cation stay within +-1 e (common
+    # practice, no source); the record holds the first table as printed.
+    rel = QC + "dvb_sp_un.out"
+    t = text(rel)
+    i = t.find("Ground-State ChElPG Net Atomic Charges")
+    first = [float(x) for x in re.findall(r"^\s+\d+ \w+\s+(\S+)$", t[i : i + 1500], re.M)[:20]]
+    q = rec(rel).charges["chelpg"]
+    assert q == first
+    assert max(abs(x) for x in q) < 1.0 and sum(q) == pytest.approx(1.0, abs=1e-5)

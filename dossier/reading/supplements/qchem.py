@@ -4,6 +4,10 @@
   thermal corrections, and cclib 1.8.1 passes them on as `enthalpy`/`freeenergy`
   (corrections in hartree), unlike its Gaussian/ORCA/NWChem parsers (totals). Here they are
   read from the text and made totals: H = E_scf + H_corr, G = H - T*S, ZPE kept as a correction.
+- ChElPG: with `chelpg = true` Q-Chem 5.4 prints "Ground-State ChElPG Net Atomic Charges"
+  twice; the second table (after "Do orbital-by-orbital Lowdin population analysis") holds
+  values of +-22 e that are no atomic charges, and cclib 1.8.1 keeps that one. The record
+  keeps the first table after the last Mulliken table.
 - <S^2> ("<S^2> =  0.769528701"), job kinds from the echoed $rem, solvation and dispersion.
 """
 from __future__ import annotations
@@ -58,6 +62,10 @@ def apply(calc, text: str, data) -> None:
     if s2 is not None:
         calc.s2 = s2
 
+    chelpg = _first_chelpg(text, calc.n_atoms)
+    if chelpg:
+        calc.charges["chelpg"] = chelpg
+
     e = last_float(r"Total energy in the final basis set =\s*(" + FLOAT + ")", text)
     if e is not None and "mp2" not in calc.energies_hartree and not any(k.startswith("cc") for k in calc.energies_hartree):
         calc.energies_hartree["scf"] = e
@@ -79,3 +87,19 @@ def apply(calc, text: str, data) -> None:
             gibbs_hartree=h - t * s if h is not None and s is not None else None,
             entropy_hartree_per_k=s,
         )
+
+
+def _first_chelpg(text: str, n_atoms: int) -> list[float] | None:
+    start = text.rfind("Ground-State Mulliken Net Atomic Charges")
+    i = text.find("Ground-State ChElPG Net Atomic Charges", max(start, 0))
+    if i < 0 or n_atoms == 0:
+        return None
+    j = text.find("\n  ---", i)
+    rows = text[text.find("\n", j + 1) + 1 :].split("\n", n_atoms)[:n_atoms]
+    out = []
+    for row in rows:
+        parts = row.split()
+        if len(parts) != 3:
+            return None
+        out.append(float(parts[2]))
+    return out
