@@ -360,6 +360,8 @@ def _site_distance(calc: Calculation, sites, a: str | None, b: str | None) -> fl
     if not a or not b or a not in sites or b not in sites:
         return None
     x = np.asarray(calc.coordinates_angstrom, dtype=float)
+    if x.ndim != 2 or any(not 0 <= i < len(x) for i in list(sites[a]) + list(sites[b])):
+        return None
     return float(np.linalg.norm(x[sites[a]].mean(axis=0) - x[sites[b]].mean(axis=0)))
 
 
@@ -376,6 +378,10 @@ def _mode_analysis(ctx, pw) -> dict | None:
         raise _Unavailable("reactant and product list their atoms differently")
     if len(freq.vibrations.displacements) != len(freq.vibrations.wavenumbers_cm1):
         raise _Unavailable("the frequency job's displacements do not match its wavenumbers")
+    n = freq.n_atoms
+    if n == 0 or len(freq.coordinates_angstrom) != n or len(prod.geometry.coordinates_angstrom) != n \
+            or any(np.shape(d) != (n, 3) for d in freq.vibrations.displacements):
+        raise _Unavailable("the frequency job or the product lacks a complete geometry or mode set")
     prod_xyz = geometry.align(prod.geometry.coordinates_angstrom, freq.coordinates_angstrom)
     masses = th.atomic_masses_amu(freq.elements)
     w = list(freq.vibrations.wavenumbers_cm1)

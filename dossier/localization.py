@@ -227,10 +227,26 @@ def orbital_shares(calc: Calculation, sites: Mapping[str, Sequence[int]]) -> dic
 
 def state_localization(calc: Calculation, sites: Mapping[str, Sequence[int]], redox_sites: Sequence[str],
                        bridge_atoms: Sequence[int] | None = None) -> dict:
-    """All indicators for one state and their consensus (the `localization` entry of dossier.json)."""
+    """All indicators for one state and their consensus (the `localization` entry of dossier.json).
+
+    Sites with an atom number beyond the record's atoms are left out (and named in the notes);
+    without a full set of coordinates there is no geometric indicator.
+    """
     notes: list[str] = []
+    n = calc.n_atoms
+    bad = sorted(name for name, atoms in sites.items() if any(not 0 <= i < n for i in atoms))
+    if bad:
+        notes.append(f"site(s) {', '.join(bad)} name atoms beyond this structure's {n} atoms: left out")
+        sites = {k: v for k, v in sites.items() if k not in bad}
+        redox_sites = [r for r in redox_sites if r not in bad]
+    if bridge_atoms is not None and any(not 0 <= i < n for i in bridge_atoms):
+        bridge_atoms = None
+    has_coords = n > 0 and len(calc.coordinates_angstrom) == n
     schemes = population_indicators(calc, sites, redox_sites)
-    geom = geometric_indicator(calc.elements, calc.coordinates_angstrom, sites, redox_sites, bridge_atoms)
+    geom = geometric_indicator(calc.elements, calc.coordinates_angstrom, sites, redox_sites, bridge_atoms) \
+        if has_coords else None
+    if not has_coords:
+        notes.append("no geometric indicator: the record holds no complete set of coordinates")
     orbital = orbital_shares(calc, sites)
     if orbital is not None:
         pair = _pick_two(orbital["somo_share_by_site"], redox_sites)
@@ -294,6 +310,10 @@ def imaginary_mode_shares(calc: Calculation, sites: Mapping[str, Sequence[int]],
     if total == 0:
         return None
     per_atom = per_atom / total
+    n = calc.n_atoms
+    sites = {k: v for k, v in sites.items() if all(0 <= i < n for i in v)}
+    if bridge_atoms is not None and any(not 0 <= i < n for i in bridge_atoms):
+        bridge_atoms = None
     shares = {name: float(per_atom[list(atoms)].sum()) for name, atoms in sites.items()}
     if bridge_atoms is not None and "bridge" not in shares:
         shares["bridge"] = float(per_atom[list(bridge_atoms)].sum())
@@ -313,7 +333,12 @@ def mode_overlap_with_path(ts: Calculation, reactant: Calculation, product: Calc
     if not (geometry.same_atom_order(ts.elements, reactant.elements)
             and geometry.same_atom_order(ts.elements, product.elements)):
         return None
+    n = ts.n_atoms
+    if n == 0 or any(len(c.coordinates_angstrom) != n for c in (ts, reactant, product)):
+        return None
     k = int(np.argmin(vib.wavenumbers_cm1))
+    if k >= len(vib.displacements) or np.shape(vib.displacements[k]) != (n, 3):
+        return None
     r = geometry.align(reactant.coordinates_angstrom, ts.coordinates_angstrom)
     p = geometry.align(product.coordinates_angstrom, ts.coordinates_angstrom)
     return abs(geometry.displacement_cosine(p - r, vib.displacements[k]))
@@ -327,7 +352,8 @@ def proton_shifts(states: Sequence[tuple[str, Calculation]]) -> dict:
     """
     names = [n for n, _ in states]
     calcs = [c for _, c in states]
-    if not calcs or any(not geometry.same_atom_order(calcs[0].elements, c.elements) for c in calcs[1:]):
+    if not calcs or any(not geometry.same_atom_order(calcs[0].elements, c.elements) for c in calcs[1:]) \
+            or any(len(c.coordinates_angstrom) != c.n_atoms for c in calcs):
         return {"proton_transfer": None, "moves": [],
                 "statement": "proton shifts not tested: the states do not list the same atoms in the same order"}
     elements = calcs[0].elements
