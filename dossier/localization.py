@@ -44,9 +44,11 @@ COVALENT_RADII_ANGSTROM = {
     "Ru": 1.46, "Rh": 1.42, "Pd": 1.39, "Ag": 1.45, "I": 1.39, "Os": 1.44, "Ir": 1.41, "Pt": 1.36, "Au": 1.36,
 }
 BOND_TOLERANCE = 1.2
-#: Thresholds below which an indicator calls the electron shared ("delocalized"). Common practice, no source.
+#: Thresholds below which an indicator calls the electron shared ("delocalized"): localization index,
+#: bond-length asymmetry, charge difference between the sites. Common practice, no source.
 DELOCALIZED_INDEX = 0.2
 DELOCALIZED_BOND_ASYMMETRY_ANGSTROM = 0.01
+DELOCALIZED_CHARGE_DIFFERENCE = 0.1  # e
 
 HYDROGENS = ("H", "D", "T")
 
@@ -129,7 +131,12 @@ def population_indicators(calc: Calculation, sites: Mapping[str, Sequence[int]],
         if "charge_by_site" in entry:
             pair = _pick_two(entry["charge_by_site"], redox_sites)
             if len(pair) == 2:
-                entry["charge_difference"] = float(entry["charge_by_site"][pair[0]] - entry["charge_by_site"][pair[1]])
+                qa, qb = (entry["charge_by_site"][p] for p in pair)
+                entry["charge_difference"] = float(qa - qb)
+                if calc.charge:
+                    sign = -1.0 if calc.charge < 0 else 1.0
+                    entry["charge_site_of_electron"] = ("delocalized" if abs(qa - qb) < DELOCALIZED_CHARGE_DIFFERENCE
+                                                        else pair[0] if sign * qa > sign * qb else pair[1])
         entry["localization_index"] = index
         entry["index_basis"] = basis
         entry["site_of_electron"] = site
@@ -269,6 +276,8 @@ def state_localization(calc: Calculation, sites: Mapping[str, Sequence[int]], re
     for name, entry in sorted(schemes.items()):
         if entry.get("site_of_electron"):
             votes.append((f"{name} {entry['index_basis']}", entry["site_of_electron"]))
+        if entry.get("charge_site_of_electron") and entry.get("index_basis") != "charge":
+            votes.append((f"{name} charge", entry["charge_site_of_electron"]))
     if geom and geom.get("site_of_electron"):
         votes.append(("geometry", geom["site_of_electron"]))
     if orbital and orbital.get("site_of_electron"):

@@ -109,6 +109,9 @@ def test_population_indicators_and_index():
     # index by hand: |0.80 - 0.05| / (0.80 + 0.05) = 0.882
     assert s["localization_index"] == pytest.approx(0.75 / 0.85)
     assert s["site_of_electron"] == "nitro_a"
+    # the anion's extra charge: the more negative site (-0.6 against -0.3 e) carries the electron
+    assert s["charge_difference"] == pytest.approx(-0.3)
+    assert s["charge_site_of_electron"] == "nitro_a"
     assert loc.localization_index(0.4, 0.4) == 0.0
     full = loc.state_localization(calc, sites, ["nitro_a", "nitro_b"], sites["bridge"])
     assert full["site_of_electron"] == "nitro_a" and full["indicators_agree"] is True
