@@ -8,7 +8,7 @@ import re
 import numpy as np
 import pytest
 
-from conftest import FIXTURES, fixture_path
+from conftest import fixture_path
 from dossier.reading import read
 
 G16 = "Gaussian/basicGaussian16/"

@@ -5,15 +5,12 @@ Cut-off and failed copies are made in the test from real third-party logs
 """
 from __future__ import annotations
 
-import dataclasses
 import json
 import os
 from concurrent.futures import ThreadPoolExecutor
-from pathlib import Path
 
 import pytest
 
-import dossier.reading as reading
 from conftest import fixture_path
 from dossier.cli import main
 from dossier.errors import ReadError

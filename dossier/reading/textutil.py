@@ -26,12 +26,3 @@ def last_match(pattern: str, text: str, flags: int = 0) -> re.Match | None:
     for last in re.finditer(pattern, text, flags):
         pass
     return last
-
-
-def last_block(text: str, start: str, end_pattern: str = r"\n\s*\n") -> str | None:
-    """Text from the last occurrence of the literal `start` up to the first `end_pattern` after it."""
-    i = text.rfind(start)
-    if i < 0:
-        return None
-    m = re.compile(end_pattern).search(text, i + len(start))
-    return text[i : m.start()] if m else text[i:]

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import re
 
-from dossier.reading.textutil import FLOAT, last_float, last_match, to_float
+from dossier.reading.textutil import FLOAT, last_float, to_float
 
 DISPERSION = {"gd3bj": "D3(BJ)", "gd3": "D3(0)", "gd2": "D2", "pfd": "PFD"}
 

@@ -16,9 +16,9 @@ from __future__ import annotations
 
 import re
 
-from dossier.reading.textutil import FLOAT, all_floats, last_block, last_float, last_match
+from dossier.reading.textutil import FLOAT, all_floats, last_float, last_match
 from dossier.records import ExcitedState, Orbitals
-from dossier.units import AU_DIPOLE_DEBYE, EV_CM1, HARTREE_EV
+from dossier.units import AU_DIPOLE_DEBYE, EV_CM1
 
 FUNCTIONALS = (
     "b3lyp", "b3lyp/g", "pbe0", "pbe", "bp86", "blyp", "bhlyp", "tpss", "tpssh", "m06", "m06-2x", "m062x",
@@ -311,12 +311,11 @@ def _state_blocks(text):
             tail = m.group(5)
             ms = re.search(r"Sym:\s*(\S+)", tail)
             mm = re.search(r"Mult\s+(\d)", tail)
-            e_au = float(m.group(2))
             contribs = []
             for c in re.finditer(r"^\s+(\d+)([ab])\s+->\s+(\d+)([ab])\s+:\s+(" + FLOAT + r")(?:\s+\(c=\s*(" + FLOAT + r")\))?", seg[m.end():].split("\n\n")[0], re.M):
                 coef = float(c.group(6)) if c.group(6) else float(c.group(5)) ** 0.5
                 contribs.append((f"{int(c.group(1)) + 1}{c.group(2)}", f"{int(c.group(3)) + 1}{c.group(4)}", coef))
-            out.append({"cm1": float(m.group(4)), "ev_au": e_au * HARTREE_EV, "mult": int(mm.group(1)) if mm else block_mult,
+            out.append({"cm1": float(m.group(4)), "mult": int(mm.group(1)) if mm else block_mult,
                         "sym": ms.group(1) if ms else None, "contribs": contribs})
     return out
 
