@@ -123,50 +123,59 @@ def _reflection_matrix(normal: np.ndarray) -> np.ndarray:
     return np.eye(3) - 2.0 * np.outer(n, n)
 
 
-def _rarest_mask(labels: np.ndarray) -> np.ndarray:
-    values, counts = np.unique(labels, return_counts=True)
-    return labels == values[np.argmin(counts)]
+class _Matcher:
+    """Tests whether an operation maps the geometry onto itself: every atom, moved by the
+    operation, lands within `tol` of a distinct atom of the same element."""
 
+    def __init__(self, x: np.ndarray, labels: np.ndarray, tol: float):
+        self.x, self.tol2 = x, tol * tol
+        self.sq = np.einsum("ij,ij->i", x, x)  # |x|^2; an orthogonal operation keeps it
+        self.other = labels[:, None] != labels[None, :]
+        values, counts = np.unique(labels, return_counts=True)
+        self.rare = np.flatnonzero(labels == values[np.argmin(counts)])
 
-def _maps_onto_itself(op: np.ndarray, x: np.ndarray, labels: np.ndarray, tol: float) -> bool:
-    """True if every atom, moved by `op`, lands within `tol` of an atom of the same element."""
-    y = x @ op.T
-    # quick rejection on the atoms of the rarest element before the full distance matrix
-    rare = _rarest_mask(labels)
-    d_rare = np.linalg.norm(y[rare][:, None, :] - x[rare][None, :, :], axis=2)
-    if not np.all(d_rare.min(axis=1) <= tol):
-        return False
-    d = np.linalg.norm(y[:, None, :] - x[None, :, :], axis=2)
-    d[labels[:, None] != labels[None, :]] = np.inf
-    if not np.all(d.min(axis=1) <= tol):
-        return False
-    # a permutation, not a many-to-one map
-    return len(set(np.argmin(d, axis=1).tolist())) == len(x)
+    def _d2(self, y: np.ndarray, rows) -> np.ndarray:
+        """Squared distances |y_i - x_j|^2 = |x_i|^2 + |x_j|^2 - 2 y_i . x_j."""
+        return self.sq[rows][:, None] + self.sq[None, :] - 2.0 * (y @ self.x.T)
+
+    def __call__(self, op: np.ndarray) -> bool:
+        y_rare = self.x[self.rare] @ op.T
+        # quick rejection on the atoms of the rarest element before the full distance matrix
+        d_rare = self._d2(y_rare, self.rare)[:, self.rare]
+        if not np.all(d_rare.min(axis=1) <= self.tol2):
+            return False
+        y = self.x @ op.T
+        d = self._d2(y, slice(None))
+        d[self.other] = np.inf
+        if not np.all(d.min(axis=1) <= self.tol2):
+            return False
+        # a permutation, not a many-to-one map
+        return len(set(np.argmin(d, axis=1).tolist())) == len(self.x)
 
 
 def _unique_axes(vectors: list[np.ndarray], min_norm: float) -> list[np.ndarray]:
     """Distinct directions (up to sign) among `vectors`, to about 1e-4 rad, in first-seen order."""
-    if not vectors:
+    if len(vectors) == 0:
         return []
     v = np.asarray(vectors, dtype=float).reshape(-1, 3)
     norms = np.linalg.norm(v, axis=1)
-    v = v[norms >= min_norm] / norms[norms >= min_norm][:, None]
+    keep = norms >= max(min_norm, 1e-12)
+    v = v[keep] / norms[keep][:, None]
     if len(v) == 0:
         return []
-    # canonical sign: first component that is clearly non-zero is positive
+    # canonical sign: the first component that is clearly non-zero is positive
     lead = np.argmax(np.abs(v) > 1e-6, axis=1)
     v *= np.where(v[np.arange(len(v)), lead] < 0, -1.0, 1.0)[:, None]
-    found: list[np.ndarray] = []
-    keys: set[tuple[int, int, int]] = set()
-    for u in v:
-        key = tuple(np.round(u * 1e4).astype(int).tolist())
-        if key in keys:
+    _, first = np.unique(np.round(v * 1e4).astype(np.int64), axis=0, return_index=True)
+    v = v[np.sort(first)]
+    found = np.empty_like(v)
+    k = 0
+    for u in v:  # merge directions that rounding put in neighbouring cells
+        if k and np.max(np.abs(found[:k] @ u)) > 1.0 - 1e-8:
             continue
-        if found and np.max(np.abs(np.asarray(found) @ u)) > 1.0 - 1e-8:
-            continue
-        keys.add(key)
-        found.append(u)
-    return found
+        found[k] = u
+        k += 1
+    return list(found[:k])
 
 
 def _close_group(ops: list[np.ndarray], is_symmetry, limit: int = 120) -> list[np.ndarray]:
@@ -179,18 +188,20 @@ def _close_group(ops: list[np.ndarray], is_symmetry, limit: int = 120) -> list[n
         return bool(np.min(np.abs(stack - m).reshape(len(group), -1).max(axis=1)) >= 1e-2)
 
     for op in ops:
-        if is_new(op):
+        if len(group) < limit and is_new(op):
             group.append(op)
-    frontier = list(group)
-    while frontier and len(group) < limit:
-        fresh = []
-        for a in frontier:
-            for b in list(group):
-                for c in (a @ b, b @ a):
-                    if len(group) < limit and is_new(c) and is_symmetry(c):
-                        group.append(c)
-                        fresh.append(c)
-        frontier = fresh
+    while len(group) < limit:
+        g = np.asarray(group)
+        products = np.einsum("aij,bjk->abik", g, g).reshape(-1, 3, 3)
+        _, first = np.unique(np.round(products * 1e3).astype(np.int64).reshape(len(products), -1),
+                             axis=0, return_index=True)
+        added = False
+        for c in products[np.sort(first)]:
+            if len(group) < limit and is_new(c) and is_symmetry(c):
+                group.append(c)
+                added = True
+        if not added:
+            break
     return group
 
 
@@ -235,7 +246,7 @@ def detect_symmetry(
     x = x - (masses[:, None] * x).sum(axis=0) / masses.sum()
     moments, axes = principal_moments_amu_a2(masses, x)
     if _is_linear(moments, n):
-        centro = _maps_onto_itself(-np.eye(3), x, labels, tol)
+        centro = _Matcher(x, labels, tol)(-np.eye(3))
         return SymmetryInfo("D*h" if centro else "C*v", 2 if centro else 1, True, tol, 0)
 
     scale = max(moments[2], 1e-12)
@@ -269,28 +280,32 @@ def detect_symmetry(
 
     ops: list[np.ndarray] = []
     inversion = -np.eye(3)
-    if _maps_onto_itself(inversion, x, labels, tol):
+    maps = _Matcher(x, labels, tol)
+    if maps(inversion):
         ops.append(inversion)
     seen: set[tuple[int, int, int]] = set()
     for axis, orders in tests:
-        if np.linalg.norm(axis) < 1e-3:  # an atom at the centre of mass gives no direction
+        norm = float(np.linalg.norm(axis))
+        if norm < 1e-3:  # an atom at the centre of mass gives no direction
             continue
-        axis = _unique_axes([axis], 0.0)[0]  # unit length, canonical sign
+        axis = axis / norm
+        lead = int(np.argmax(np.abs(axis) > 1e-6))
+        axis = -axis if axis[lead] < 0 else axis
         key = tuple(np.round(axis * 1e4).astype(int).tolist())
         if key in seen:
             continue
         seen.add(key)
         mirror = _reflection_matrix(axis)
-        if _maps_onto_itself(mirror, x, labels, tol):
+        if maps(mirror):
             ops.append(mirror)
         for k in orders:
             rot = _rotation_matrix(axis, 2.0 * math.pi / k)
-            if _maps_onto_itself(rot, x, labels, tol):
+            if maps(rot):
                 ops.append(rot)
             improper = mirror @ _rotation_matrix(axis, math.pi / k)  # S_2k
-            if _maps_onto_itself(improper, x, labels, tol):
+            if maps(improper):
                 ops.append(improper)
-    group = _close_group(ops, lambda m: _maps_onto_itself(m, x, labels, tol))
+    group = _close_group(ops, maps)
     proper = [g for g in group if np.linalg.det(g) > 0]
     sigma = len(proper)
     return SymmetryInfo(_schoenflies(group, proper), sigma, False, tol, len(group))

@@ -390,6 +390,17 @@ def test_symmetry_numbers_of_known_molecules(name, point_group, sigma):
     assert (info.point_group, info.symmetry_number) == (point_group, sigma)
 
 
+def test_symmetry_numbers_of_spherical_tops():
+    # geometries from ASE (ase.build.molecule, ase.cluster); sigma of T_d = 12, O_h = 24, I_h = 60
+    # (order of the rotation subgroup; textbook values, from memory)
+    from ase.cluster import Icosahedron, Octahedron
+
+    for atoms, expected in [(molecule("SiH4"), ("Td", 12)), (Octahedron("Cu", 2), ("Oh", 24)),
+                            (Icosahedron("Cu", 2), ("Ih", 60))]:
+        info = detect_symmetry(atoms.get_chemical_symbols(), atoms.positions)
+        assert (info.point_group, info.symmetry_number) == expected
+
+
 def test_symmetry_of_divinylbenzene_fixture_and_broken_symmetry():
     # trans-divinylbenzene, C2h, sigma 2 (Gaussian, Q-Chem, ORCA, NWChem, Psi4, xtb all print 2)
     elements, coords, waves, _ = load("gaussian")
