@@ -1,35 +1,38 @@
 #!/usr/bin/env python3
-"""Write the Psi4 input of the UMP2 cross-check at a given XYZ geometry (standard library only).
+"""Write a Psi4 ROHF-MP2/6-31G single-point input at a given XYZ geometry (standard library only).
 
-  psi4_input.py XYZFILE > ladder/min_a_mp2_psi4.in
+  psi4_input.py XYZFILE "comment line" > ladder/NAME.in
 
-Same level as NWChem's ladder/min_a_mp2.nw: UHF reference, conventional UMP2, 6-31G,
-frozen core; the molecule is kept in the given frame (no reorientation, no recentring).
+The ladder rung of the demo study: conventional ROHF-MP2 (Psi4's OCC module, semicanonical
+orbitals, singles included), 6-31G, frozen core, charge -1, doublet. The molecule is kept in
+the given frame (no reorientation, no recentring); Psi4 uses whatever point group that frame
+shows (C2v for the transition state, Cs for the planar minima).
 """
 import sys
 
 lines = [ln.split() for ln in open(sys.argv[1]).read().splitlines()[2:] if ln.strip()]
 atoms = "\n".join(f"  {p[0]:2s} {float(p[1]):14.8f} {float(p[2]):14.8f} {float(p[3]):14.8f}" for p in lines)
-print(f"""# 1,3-dinitrobenzene radical anion, min_a (electron on nitro_a): UMP2/6-31G (frozen core)
-# single point at the BHLYP/6-31G geometry of pathway/min_a_opt.out; cross-check of ladder/min_a_mp2.out
+comment = sys.argv[2] if len(sys.argv) > 2 else "single point"
+print(f"""# {comment}
+# ROHF-MP2/6-31G (frozen core), Psi4 conventional MP2 (OCC module)
 memory 1 gb
 
-molecule min_a {{
+molecule {{
   -1 2
 {atoms}
-  symmetry c1
   no_reorient
   no_com
 }}
 
 set {{
   basis 6-31g
-  reference uhf
+  reference rohf
   scf_type pk
   mp2_type conv
   freeze_core true
   e_convergence 1e-8
   d_convergence 1e-7
+  maxiter 200
 }}
 
 energy('mp2')
