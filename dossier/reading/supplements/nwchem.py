@@ -55,6 +55,12 @@ def apply(calc, text: str, data) -> None:
         calc.level.unrestricted = False
     if calc.level.basis:
         calc.level.basis = calc.level.basis.upper()
+    if calc.multiplicity is None:
+        # the SCF module prints electron counts, not the multiplicity (cclib then has none)
+        na = last_float(r"alpha electrons =\s*(\d+)", text)
+        nb = last_float(r"beta  electrons =\s*(\d+)", text)
+        if na is not None and nb is not None:
+            calc.multiplicity = int(na - nb) + 1
     if calc.level.functional is None and calc.level.method in (None, "HF") and "Total SCF energy" in text:
         calc.level.method = "HF"
     if re.search(r"COSMO solvation", text, re.I) or "-cosmo-" in text.lower():

@@ -20,7 +20,10 @@ DISPERSION = {"d3bj": "D3(BJ)", "d3": "D3(0)", "d3zero": "D3(0)", "d3mbj": "D3M(
 
 
 def covers_skipped(skipped) -> bool:
-    return False
+    """Psi4 1.3.2 as packaged by Debian prints "Git: Rev {} zzzzzzz" under its banner and
+    cclib 1.8.1 fails to parse that as a version; the version is read here from the banner."""
+    line, err = skipped
+    return line.startswith("Psi4: An Open-Source") and err == "InvalidVersion"
 
 
 def for_cclib(text: str) -> str:
@@ -93,10 +96,11 @@ def apply(calc, text: str, data) -> None:
     elif totals:
         calc.energies_hartree["scf"] = totals[-1]
         calc.scf_energy_hartree = totals[-1]
-    for name, pat in (("mp2", r"MP2 total energy\s*=\s*(" + FLOAT + ")"),
+    for name, pat in (("mp2", r"(?<![\w-])MP2 total energy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
+                      ("scs-mp2", r"SCS-MP2 total energy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
                       ("ccsd", r"\* CCSD total energy\s*=\s*(" + FLOAT + ")"),
                       ("ccsd(t)", r"\* CCSD\(T\) total energy\s*=\s*(" + FLOAT + ")")):
-        v = last_float(pat, text, re.I if name == "mp2" else 0)
+        v = last_float(pat, text, re.I if "mp2" in name else 0)
         if v is not None:
             for k in [k for k in calc.energies_hartree if k.startswith("cc") and k not in ("ccsd", "ccsd(t)")]:
                 del calc.energies_hartree[k]
