@@ -489,6 +489,10 @@ def test_cli_json_against_gaussian_printed_values(capsys):
     assert abs(first["gibbs_correction_hartree"] - _num(r"Thermal correction to Gibbs Free Energy=\s+([\d.]+)", text)) < 2e-6
     assert abs(first["zpe_hartree"] - _num(r"Zero-point correction=\s+([\d.]+)", text)) < 2e-6
     assert out[1]["gibbs_correction_hartree"] < first["gibbs_correction_hartree"]  # -TS grows with T
+    # the side-by-side comparison the command prints (program values through the reading layer)
+    assert abs(first["printed"]["ours_minus_printed"]["gibbs_correction_kj_mol"]) < 0.01
+    assert out[1]["printed"]["same_temperature"] is False
+    assert out[1]["printed"]["ours_minus_printed"]["gibbs_correction_kj_mol"] is None
 
 
 def test_cli_xtb_hessian_with_geometry_from_its_optimisation(capsys):

@@ -109,15 +109,46 @@ def _entry(calc, result) -> dict:
         "notes": list(result.notes),
         # what the program itself printed, as the reading layer normalized it (for comparison)
         "printed_thermo": dataclasses.asdict(calc.printed_thermo) if calc.printed_thermo else None,
+        "printed": _printed(calc, result),
     }
     return d
 
 
+def _printed(calc, result) -> dict | None:
+    """The program's printed corrections in the same form as ours, and ours minus theirs in
+    kJ/mol, when the program printed them at this temperature. Its settings (masses, pressure,
+    symmetry number, low-mode treatment, constants) may differ: see docs/thermo.md."""
+    pt = calc.printed_thermo
+    if pt is None:
+        return None
+    same_t = pt.temperature_k is not None and abs(pt.temperature_k - result.temperature_k) < 0.01
+    e = calc.energy_hartree
+    out = {
+        "temperature_k": pt.temperature_k,
+        "pressure_pa": pt.pressure_pa,
+        "zpe_hartree": pt.zpe_hartree,
+        "enthalpy_correction_hartree": None if (pt.enthalpy_hartree is None or e is None) else pt.enthalpy_hartree - e,
+        "gibbs_correction_hartree": None if (pt.gibbs_hartree is None or e is None) else pt.gibbs_hartree - e,
+        "entropy_j_mol_k": None if pt.entropy_hartree_per_k is None
+        else pt.entropy_hartree_per_k * units.HARTREE_KJ_MOL * 1000.0,
+        "same_temperature": same_t,
+    }
+    kj = units.HARTREE_KJ_MOL
+    diff = {}
+    for key in ("zpe_hartree", "enthalpy_correction_hartree", "gibbs_correction_hartree"):
+        theirs = out[key]
+        ok = theirs is not None and (same_t or key == "zpe_hartree")
+        diff[key.replace("_hartree", "_kj_mol")] = (getattr(result, key) - theirs) * kj if ok else None
+    out["ours_minus_printed"] = diff
+    return out
+
+
 def _table(entries) -> str:
-    head = ("file", "T/K", "state", "qRRHO", "sigma", "imag", "ZPE/Eh", "H-E/Eh", "G-E/Eh", "S/J mol-1 K-1", "printed ZPE/Eh")
+    head = ("file", "T/K", "state", "qRRHO", "sigma", "imag", "ZPE/Eh", "H-E/Eh", "G-E/Eh", "S/J mol-1 K-1",
+            "printed G-E/Eh")
     rows = []
     for e in entries:
-        printed = (e["printed_thermo"] or {}).get("zpe_hartree")
+        printed = (e["printed"] or {}).get("gibbs_correction_hartree") if (e["printed"] or {}).get("same_temperature") else None
         rows.append((
             e["path"], f"{e['temperature_k']:.2f}", e["standard_state"], e["qrrho"],
             f"{e['symmetry_number']}" + (f" ({e['point_group']})" if e["point_group"] else ""),
