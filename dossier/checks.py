@@ -163,6 +163,8 @@ def _check_status(c: _Collector, state: str | None, part: str, rec: Calculation)
     for problem in rec.problems:
         if "spin contamination" in problem.lower():
             continue  # SPIN-CONTAM reports it, with the threshold
+        if st.word != "ok" and st.reason and st.reason in problem:
+            continue  # the status finding above says it
         c.add("info", "READ-NOTE", f"{_part_word(part)}: {problem}", state=state, record=rec)
 
 
@@ -220,10 +222,12 @@ def _check_state(c: _Collector, project: Project, st: State) -> None:
     if st.role_source == "imaginary count":
         c.add("info", "ROLE-GUESS", f"role '{st.role}' taken from the imaginary count; write role = "
                                     f"\"{st.role}\" in the manifest to confirm", state=st.name, record=freq)
-    if freq is None or freq.vibrations is None:
-        sev = "warning"
-        c.add(sev, "NO-FREQ", f"no frequency job: the {st.role} role cannot be verified "
-                              "(and no thermal correction can be computed)", state=st.name, record=geom)
+    if freq is None:
+        c.add("warning", "NO-FREQ", f"no frequency job: the {st.role} role cannot be verified "
+                                    "(and no thermal correction can be computed)", state=st.name, record=geom)
+    elif freq.vibrations is None:
+        c.add("warning", "NO-FREQ", f"the frequency job holds no frequencies (status {freq.status.word}): the "
+                                    f"{st.role} role cannot be verified", state=st.name, record=freq)
     else:
         wn = freq.vibrations.wavenumbers_cm1
         big = [w for w in wn if w < -thr]
