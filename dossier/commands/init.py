@@ -329,7 +329,7 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
         for p, why in unused:
             lines.append(f"#   {rel(p)}: {why}")
         lines.append("")
-    return "\n".join(lines)
+    return "\n".join(lines).rstrip("\n") + "\n"
 
 
 def _four_point_candidates(drafts, unused, records, rel):
