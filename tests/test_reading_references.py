@@ -216,3 +216,49 @@ def test_real_nwchem_dispersion_in_level_of_theory(tmp_path):
     assert c.level.dispersion == "D3(BJ)" and c.level.label() == "B3LYP/STO-3G-D3(BJ)"
     # printed to 12 decimals; cclib's eV round trip adds ~1e-14
     assert c.energy_hartree == pytest.approx(float(re.findall(r"Total DFT energy =\s+(\S+)", text)[-1]), abs=5e-13)
+
+
+PSI4_OH_UMP2 = """memory 300 mb
+molecule {
+0 2
+O 0.0 0.0 0.0
+H 0.0 0.0 0.97
+}
+set {
+  basis sto-3g
+  reference uhf
+  mp2_type conv
+}
+energy('mp2')
+"""
+
+
+def test_real_psi4_ump2_run(tmp_path):
+    # the installed Psi4 (Debian 1.3.2) prints "Git: Rev {} zzzzzzz", on which cclib 1.8.1's
+    # version parsing fails: the record must still be complete and carry the banner version
+    exe = require_program("psi4")
+    (tmp_path / "oh.in").write_text(PSI4_OH_UMP2)
+    subprocess.run(["nice", "-n", "15", exe, "oh.in", "oh.out"], cwd=tmp_path, capture_output=True, timeout=300, check=False)
+    out = tmp_path / "oh.out"
+    c = read(out, use_cache=False)
+    text = out.read_text()
+    assert c.status.word == "ok" and c.problems == []
+    assert c.program_version == re.search(r"Psi4 (\S+) release", text).group(1)
+    assert (c.charge, c.multiplicity, c.level.unrestricted, c.level.method) == (0, 2, True, "MP2")
+    mp2 = float(re.search(r"\tMP2 Total Energy \(a\.u\.\)\s+:\s+(\S+)", text).group(1))
+    scs = float(re.search(r"SCS-MP2 Total Energy \(a\.u\.\)\s+:\s+(\S+)", text).group(1))
+    assert c.energies_hartree["mp2"] == mp2 and c.energies_hartree["scs-mp2"] == scs
+    assert c.energy_hartree == mp2 and c.energies_hartree["scf"] > mp2  # correlation lowers the energy
+    assert c.s2 == float(re.search(r"@S\^2 Observed:\s+(\S+)", text).group(1))
+
+
+def test_real_nwchem_uhf_mp2_multiplicity(tmp_path):
+    # NWChem's SCF module prints alpha/beta electron counts but no multiplicity line
+    deck = OH_INPUT.replace("dft\n  mult 2\n  xc b3lyp\nend\nproperty\n  mulliken\nend\ntask dft property",
+                            "scf\n  uhf\n  doublet\nend\ntask mp2 energy")
+    out = _run_nwchem(tmp_path, "oh_mp2", deck)
+    c = read(out, use_cache=False)
+    text = out.read_text()
+    assert c.status.word == "ok" and c.multiplicity == 2 and c.level.method == "MP2"
+    assert c.energies_hartree["mp2"] == float(re.search(r"Total MP2 energy\s+(\S+)", text).group(1))
+    assert c.energies_hartree["scf"] == pytest.approx(float(re.search(r"Total SCF energy =\s+(\S+)", text).group(1)), abs=5e-13)
