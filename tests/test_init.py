@@ -84,16 +84,27 @@ def _confirm(text: str) -> str:
 
 @pytest.mark.slow
 def test_init_on_the_demo_study(tmp_path):
-    folder = demo_path("pathway")  # the sound pathway runs of the demo study
-    if not list(folder.glob("*.out")):
-        pytest.skip("the demo study's pathway runs have not been produced yet")
-    out = tmp_path / "dossier.toml"
-    assert main(["init", str(folder), "--out", str(out)]) == 0
-    text = _confirm(out.read_text())
-    out.write_text(text)
+    # The demo study's sound runs (every folder but flawed/), linked into a fresh folder.
+    demo = demo_path("")
+    parts = ["pathway", "ladder", "tddft", "fourpoint", "survey"]
+    if not all(list((demo / p).glob("*.out")) for p in parts):
+        pytest.skip("the demo study's runs have not all been produced yet")
+    folder = tmp_path / "study"
+    folder.mkdir()
+    for p in parts:
+        (folder / p).symlink_to(demo / p, target_is_directory=True)
+    out = folder / "dossier.toml"
+    assert main(["init", str(folder)]) == 0
+    draft = out.read_text()
+    out.write_text(_confirm(draft))
     project = load_project(out)
     roles = {s.role for s in project.states.values()}
     assert "transition-state" in roles and "minimum" in roles
     assert project.pathways, "a pathway through the transition state is guessed"
+    pw = project.pathways[0]
+    # the demo's manifest (written by hand) says which states form the pathway
+    sound = tomllib.loads((demo / "dossier.toml").read_text())
+    ts_file = sound["states"][sound["pathways"][0]["transition_state"]]["geometry"]
+    assert project.label(project.states[pw.transition_state].geometry).endswith(ts_file)
     findings = checks.run_checks(project)
     assert [f.line() for f in findings if f.severity == "error"] == []
