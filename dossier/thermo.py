@@ -101,13 +101,14 @@ def principal_moments_amu_a2(masses_amu: Sequence[float], coordinates_angstrom) 
     m = np.asarray(masses_amu, dtype=float)
     x = np.asarray(coordinates_angstrom, dtype=float)
     x = x - (m[:, None] * x).sum(axis=0) / m.sum()
-    tensor = np.sum(m) * 0.0 + np.einsum("i,ij,ik->jk", m, x, x)
+    tensor = np.einsum("i,ij,ik->jk", m, x, x)  # sum_i m_i r_ia r_ib
     inertia = np.eye(3) * np.trace(tensor) - tensor
     moments, axes = np.linalg.eigh(inertia)
     return np.clip(moments, 0.0, None), axes
 
 
 def _is_linear(moments: np.ndarray, n_atoms: int) -> bool:
+    """Linear when the smallest moment vanishes (below 0.01 u A^2 and 1e-3 of the largest)."""
     return n_atoms == 2 or (n_atoms > 2 and moments[0] < 1e-3 * max(moments[2], 1e-12) and moments[0] < 1e-2)
 
 
@@ -396,6 +397,10 @@ def harmonic_zpe_j_mol(wavenumber_cm1: float) -> float:
     return 0.5 * wavenumber_cm1 * units.CM1_KJ_MOL * 1000.0
 
 
+#: Above this reduced frequency a mode is frozen: e^-x underflows and its thermal terms are 0.
+_X_MAX = 700.0
+
+
 def _x(wavenumber_cm1: float, temperature_k: float) -> float:
     """Reduced frequency x = h c nu~ / (k T) = Theta_v / T (McQuarrie 1976, chapter 6)."""
     return wavenumber_cm1 * units.CM1_J / (_K * temperature_k)
@@ -408,20 +413,20 @@ def harmonic_thermal_energy_j_mol(wavenumber_cm1: float, temperature_k: float) -
     from vibrational motion" (energy measured from the bottom of the well).
     """
     x = _x(wavenumber_cm1, temperature_k)
-    return _R * temperature_k * x / math.expm1(x)
+    return 0.0 if x > _X_MAX else _R * temperature_k * x / math.expm1(x)
 
 
 def harmonic_entropy_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
     """S_v = R [x / (e^x - 1) - ln(1 - e^-x)] for one mode (McQuarrie 1976, chapter 6;
     Ochterski 2000; Grimme 2012, the oscillator entropy S_V that his eq 7 interpolates)."""
     x = _x(wavenumber_cm1, temperature_k)
-    return _R * (x / math.expm1(x) - math.log(-math.expm1(-x)))
+    return 0.0 if x > _X_MAX else _R * (x / math.expm1(x) - math.log(-math.expm1(-x)))
 
 
 def harmonic_heat_capacity_j_mol_k(wavenumber_cm1: float, temperature_k: float) -> float:
     """C_v = R x^2 e^x / (e^x - 1)^2 for one mode (McQuarrie 1976, chapter 6; Ochterski 2000)."""
     x = _x(wavenumber_cm1, temperature_k)
-    return _R * x * x * math.exp(x) / math.expm1(x) ** 2
+    return 0.0 if x > _X_MAX else _R * x * x * math.exp(-x) / (-math.expm1(-x)) ** 2
 
 
 def free_rotor_entropy_j_mol_k(

@@ -522,3 +522,19 @@ def test_cli_errors_name_the_file(tmp_path, capsys):
     assert rc == 2 and len(err) == 2
     assert str(not_qc) in err[0]
     assert str(no_freq) in err[1] and "frequenc" in err[1]
+
+
+def test_low_temperature_freezes_modes_without_overflow():
+    # common practice, no source: at 5 K a 3000 cm-1 mode (x ~ 860) contributes nothing above
+    # its zero-point energy; the result stays finite and G -> ZPE as T -> 0
+    a = molecule("H2O")
+    r = rrho(a.get_chemical_symbols(), a.positions, [1594.7, 3657.1, 3755.9], 1, 5.0)
+    vib = r.contributions["vibrational"]
+    assert vib.entropy_j_mol_k < 1e-100 and vib.heat_capacity_j_mol_k < 1e-100
+    assert vib.energy_hartree == pytest.approx(r.zpe_hartree, abs=1e-15)
+    assert math.isfinite(r.gibbs_correction_hartree)
+    # C_v of one mode against the textbook Einstein function at x = 1: e / (e - 1)^2 = 0.920674 R
+    from dossier.thermo import harmonic_heat_capacity_j_mol_k
+
+    nu = sc.k * 300.0 / (sc.h * sc.c * 100.0)  # the wavenumber with x = 1 at 300 K
+    assert harmonic_heat_capacity_j_mol_k(nu, 300.0) == pytest.approx(0.920674 * sc.R, rel=1e-6)
