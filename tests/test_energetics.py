@@ -127,7 +127,7 @@ def test_errors_are_one_line():
     assert temperature_key(300.0) == "300" and temperature_key(298.15) == "298.15"
 
 
-def test_from_thermo_composite_matches_ase_on_fixture(tmp_path):
+def test_from_thermo_composite_matches_ase_on_fixture():
     # Composite recipe: electronic energy from one source, G correction from dossier.thermo on
     # a real frequency job; the correction checked against ASE 3.29 IdealGasThermo.
     import warnings

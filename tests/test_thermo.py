@@ -538,3 +538,18 @@ def test_low_temperature_freezes_modes_without_overflow():
 
     nu = sc.k * 300.0 / (sc.h * sc.c * 100.0)  # the wavenumber with x = 1 at 300 K
     assert harmonic_heat_capacity_j_mol_k(nu, 300.0) == pytest.approx(0.920674 * sc.R, rel=1e-6)
+
+
+def test_demo_transition_state_against_nwchem_printed_zpe():
+    # The demo study's NWChem transition-state frequency job (one imaginary mode): NWChem leaves
+    # the imaginary mode out of its ZPE too; its printed value sits the same ~0.05 % below ours
+    # as on the divinylbenzene fixture (its unit conversion, see the NWChem test above).
+    from tests.conftest import demo_path
+
+    reading = pytest.importorskip("dossier.reading")
+    calc = reading.read(demo_path("pathway/ts_freq.out"), use_cache=False)
+    if calc.vibrations is None or calc.printed_thermo is None or calc.printed_thermo.zpe_hartree is None:
+        pytest.skip("demo TS frequency job not finished")
+    r = thermo_from_record(calc, 298.15)
+    assert r.n_imaginary == 1 and r.imaginary_cm1[0] < -100
+    assert 0.9993 < calc.printed_thermo.zpe_hartree / r.zpe_hartree < 0.9998
