@@ -72,7 +72,7 @@ def replicate(manifest: Path, folder: Path, n: int) -> Path:
     def copy(k: int, rel: str) -> str:
         if (k, rel) not in copied:
             src = Path(rel) if Path(rel).is_absolute() else base / rel
-            dst = folder / f"r{k}" / src.name
+            dst = folder / f"r{k}" / f"{len(copied):03d}_{src.name}"  # numbered: sources may share a file name
             dst.parent.mkdir(parents=True, exist_ok=True)
             if not dst.exists():
                 shutil.copyfile(src, dst)
