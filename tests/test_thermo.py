@@ -553,3 +553,19 @@ def test_demo_transition_state_against_nwchem_printed_zpe():
     r = thermo_from_record(calc, 298.15)
     assert r.n_imaginary == 1 and r.imaginary_cm1[0] < -100
     assert 0.9993 < calc.printed_thermo.zpe_hartree / r.zpe_hartree < 0.9998
+
+
+def test_localized_radical_anion_is_not_given_the_delocalized_symmetry():
+    # The demo minimum with the electron on one nitro group is Cs (sigma 1); the symmetric TS is
+    # C2v (sigma 2). A loose 0.1 A tolerance (xtb's printed "desy" threshold) would call the
+    # localized minimum C2v too: the default 0.02 A keeps the distortion that matters here.
+    from tests.conftest import demo_path
+
+    reading = pytest.importorskip("dossier.reading")
+    loc = reading.read(demo_path("pathway/min_a_opt.out"))
+    ts = reading.read(demo_path("pathway/ts_opt.out"))
+    if not loc.coordinates_angstrom or not ts.coordinates_angstrom:
+        pytest.skip("demo geometries not finished")
+    assert detect_symmetry(loc.elements, loc.coordinates_angstrom).symmetry_number == 1
+    assert detect_symmetry(ts.elements, ts.coordinates_angstrom).symmetry_number == 2
+    assert detect_symmetry(loc.elements, loc.coordinates_angstrom, tolerance_angstrom=0.1).symmetry_number == 2
