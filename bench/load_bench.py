@@ -107,6 +107,8 @@ def main(argv: list[str] | None = None) -> int:
         print(f"load_bench: {FIXTURES} is absent; nothing to replicate", file=sys.stderr)
         return 2
     scratch = Path(tempfile.mkdtemp(prefix="dossier-load-"))
+    print(f"load average at start (1/5/15 min): {' '.join(f'{x:.1f}' for x in os.getloadavg())} "
+          f"on {os.cpu_count()} CPUs; times are wall-clock and share the machine", flush=True)
     results = {}
     try:
         for n in sorted({args.small, args.files}):
@@ -127,6 +129,7 @@ def main(argv: list[str] | None = None) -> int:
         if small and large and small["rc"] == 0 and large["rc"] == 0:
             print(f"ratio {args.files}/{args.small} files: time x{large['wall_s'] / small['wall_s']:.1f}, "
                   f"peak memory x{large['peak_kib'] / small['peak_kib']:.2f} (files x{args.files / args.small:.0f})")
+        print(f"load average at end: {' '.join(f'{x:.1f}' for x in os.getloadavg())}")
         if args.keep:
             print(f"projects kept in {scratch}")
     finally:
