@@ -53,7 +53,16 @@ def ratio_statement(log10_ratio: float) -> str:
     if abs(r) < 0.05:
         return "the computed rate equals the measured one to within 0.1 decade"
     factor = 10.0 ** abs(r)
-    shown = f"{factor:.2g}" if factor < 100 else f"{factor:.0f}" if factor < 1e4 else f"{factor:.1e}"
+    if factor < 100:
+        shown = f"{factor:.2g}"
+    elif factor < 1e4:
+        shown = f"{factor:.0f}"
+    else:
+        exponent = math.floor(math.log10(factor))
+        mantissa = factor / 10**exponent
+        if round(mantissa, 1) >= 10.0:
+            mantissa, exponent = mantissa / 10, exponent + 1
+        shown = f"{mantissa:.1f} x 10^{exponent}"
     side = "faster" if r > 0 else "slower"
     return f"the computed rate is {shown} times ({abs(r):.{LOG_DIGITS}f} decades) {side} than the measured one"
 
