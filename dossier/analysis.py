@@ -622,8 +622,13 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
         g = _value_at(inp.barrier, t)
         params = {"barrier_kj_mol": g, "temperature_k": t, "transmission_coefficient": 1.0}
         k = marcus.eyring_rate_per_s(**params)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": 1.0, "parameters": params,
-                "inputs": {"barrier": inp.barrier["route"]}}
+        validity = {"valid": bool(g >= 0.0),
+                    "note": ("transition-state theory from the TS free energy" if g >= 0.0 else
+                             f"the transition state lies {-g:.1f} kJ/mol below the reactant at this level: a negative "
+                             "barrier has no TST meaning (the rate exceeds k_B T / h); the level is not to be trusted "
+                             "for this barrier")}
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": 1.0, "validity": validity,
+                "parameters": params, "inputs": {"barrier": inp.barrier["route"]}}
     if inp.lam is None or inp.hab is None or inp.driving is None:
         raise _Unavailable("needs lambda, H_ab and dG0")
     dg0 = _value_at(inp.driving, t)
@@ -875,6 +880,9 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
     driving = _chosen_energy_route(d["driving_force"], thermal, False)
     barrier = _chosen_energy_route(d["barrier"], thermal, True)
     rung["notes"] += [x["reason"] for x in d["unavailable"]]
+    if barrier is not None and barrier["value_kj_mol"] < 0:
+        rung["notes"].append(f"negative barrier ({barrier['value_kj_mol']:.1f} kJ/mol): the transition state lies "
+                             "below the reactant at this level, so its TST rate means nothing")
     if driving:
         rung["driving_force_kj_mol"] = driving["value_kj_mol"]
         rung["driving_force_route"] = driving["route"]
