@@ -55,7 +55,7 @@ CODES = {
     "ROLE-PATHWAY": "a pathway's reactant/product is not a minimum or its transition state is not one",
     "TS-MODE": "the transition-state mode does not point from one minimum towards the other",
     "TS-MODE-UNCHECKED": "the transition-state mode direction could not be checked",
-    "TS-ENERGY": "a transition state lies below a minimum it connects",
+    "TS-ENERGY": "at some recipe's electronic energies a transition state lies below a minimum it connects",
     "RUN-FAILED": "a job ended with an error",
     "RUN-TRUNCATED": "a job's output stops before the end (cut off)",
     "RUN-STATUS": "a job's status is not 'ok' for another reason",
@@ -368,7 +368,7 @@ def _check_pathway(c: _Collector, project: Project, pw) -> None:
                                        f"{states[pw.transition_state].role}",
               state=pw.transition_state, record=states[pw.transition_state].geometry)
     agree = _check_structures_agree(c, names, project, what, require_order=True)
-    _check_levels(c, project, names, [pw.recipe, *pw.levels.values()], what)
+    _check_levels(c, project, names, [pw.recipe, *pw.levels.values(), *pw.ladder], what)
     for a, b in ((pw.donor_site, pw.acceptor_site), (pw.donor_site, pw.bridge_site), (pw.acceptor_site, pw.bridge_site)):
         if a and b and a != b:
             common = sorted(set(project.sites[a]) & set(project.sites[b]))
@@ -379,16 +379,19 @@ def _check_pathway(c: _Collector, project: Project, pw) -> None:
     if pw.transition_state and agree:
         _check_ts_mode(c, project, pw)
         ts = states[pw.transition_state]
-        e_ts = ts.geometry.energy_hartree
-        same_level = len({(_level(states[n].geometry) or "").casefold() for n in names}) == 1
-        if e_ts is not None and same_level:
+        for rname in dict.fromkeys([pw.recipe, *pw.levels.values(), *pw.ladder]):
+            part, ts_rec = _electronic_record(project, ts, rname)
+            levels = {(_level(_electronic_record(project, states[n], rname)[1]) or "").casefold() for n in names}
+            if ts_rec.energy_hartree is None or len(levels) != 1:
+                continue  # LEVEL-MIX / ENERGY-MISSING say why
             for n in (pw.reactant, pw.product):
-                e = states[n].geometry.energy_hartree
-                if e is not None and e_ts < e:
-                    c.add("warning", "TS-ENERGY", f"{what}: the transition state's energy is "
-                                                  f"{units.hartree_to_kj_mol(e - e_ts):.2f} kJ/mol below '{n}' "
-                                                  "(geometry jobs' electronic energies); it cannot connect them",
-                          state=ts.name, record=ts.geometry)
+                e = _electronic_record(project, states[n], rname)[1].energy_hartree
+                if e is not None and ts_rec.energy_hartree < e:
+                    c.add("warning", "TS-ENERGY", f"{what}, recipe '{rname}': the transition state's electronic "
+                                                  f"energy ({_part_word(part)}) is "
+                                                  f"{units.hartree_to_kj_mol(e - ts_rec.energy_hartree):.2f} kJ/mol "
+                                                  f"below '{n}'; at this level the barrier is negative",
+                          state=ts.name, record=ts_rec)
     if pw.four_point:
         _check_four_point(c, project, pw)
 
