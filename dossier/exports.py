@@ -133,7 +133,7 @@ def energies_rows(data: dict) -> list[list[Any]]:
 
 def populations_rows(data: dict) -> list[list[Any]]:
     return [[r["family"], r.get("recipe"), r.get("basis"), r["temperature_k"], s, p]
-            for r in data.get("isomer_populations", []) for s, p in r["populations"].items()]
+            for r in data.get("isomer_populations", []) for s, p in (r.get("populations") or {}).items()]
 
 
 def parameter_rows(data: dict) -> list[list[Any]]:
@@ -472,7 +472,8 @@ def latex_text(data: dict) -> str:
     rrow = []
     for r in rate_rows(data):
         interval = "--" if r[5] is None else f"{r[5]:.1f}--{r[6]:.1f}"
-        rrow.append([tex_escape(r[0]), tex_escape(r[1]), f"{r[2]:g}", f"{r[3]:.2e}".replace("e+0", "e").replace("e+", "e"),
+        rate = "--" if r[3] is None else f"{r[3]:.2e}".replace("e+0", "e").replace("e+", "e")
+        rrow.append([tex_escape(r[0]), tex_escape(r[1]), _f(r[2], 2), rate,
                      _f(r[4], 2), interval])
     if rrow:
         parts.append(_tex_table("Rate estimates (models, not measurements); $\\log_{10}(k/\\mathrm{s^{-1}})$ interval at 68\\,\\%.", "tab:rates",
@@ -481,7 +482,8 @@ def latex_text(data: dict) -> str:
     if pops:
         parts.append(_tex_table("Boltzmann populations of isomer families.", "tab:populations",
                                 ["Family", "Recipe", "$T$ / K", "State", "Population / \\%"],
-                                [[tex_escape(r[0]), tex_escape(r[1]), f"{r[3]:g}", tex_escape(r[4]), f"{100 * r[5]:.1f}"] for r in pops], "llrlr"))
+                                [[tex_escape(r[0]), tex_escape(r[1]), _f(r[3], 2), tex_escape(r[4]), _f(None if r[5] is None else 100 * r[5], 1)]
+                                 for r in pops], "llrlr"))
     return "\n".join(parts)
 
 

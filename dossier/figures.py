@@ -307,7 +307,8 @@ def _cm1_to_nm(x):
 
 @_with_rc
 def spectrum_figure(states: list[dict]) -> Figure:
-    rows = [s for s in states if s.get("excited_states")]
+    rows = [dict(s, excited_states=[x for x in s["excited_states"] if x.get("energy_cm1")])
+            for s in states if any(x.get("energy_cm1") for x in s.get("excited_states") or [])]
     fig = _figure(6.2, 1.1 + 1.5 * len(rows))
     axes = np.atleast_1d(fig.subplots(len(rows), 1, sharex=True, squeeze=False)[:, 0])
     e_all = [x["energy_cm1"] for s in rows for x in s["excited_states"] if x.get("energy_cm1")]
@@ -383,6 +384,7 @@ def rates_figure(pathway: dict) -> Figure:
 @_with_rc
 def populations_figure(rows: list[dict]) -> Figure:
     """Boltzmann populations of one isomer family (per recipe and basis) at each temperature."""
+    rows = [r for r in rows if r.get("populations")]
     temps = sorted({r["temperature_k"] for r in rows})
     states: list[str] = []
     for r in rows:
@@ -531,7 +533,7 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
         add(site_population_figure(data["states"], scheme), "sites-0", "localization", "Spin and charge per site",
             f"Spin population (top) and charge (bottom) summed over the atoms of each site ({scheme} scheme), for every state.",
             {"scheme": scheme})
-    if any(s.get("excited_states") for s in data.get("states", [])):
+    if any(x.get("energy_cm1") for s in data.get("states", []) for x in s.get("excited_states") or []):
         add(spectrum_figure(data["states"]), "spectrum-0", "excited", "Computed excitation spectra",
             f"Computed vertical excitations (sticks, oscillator strength f) and a Gaussian broadening with a "
             f"FWHM of {SPECTRUM_FWHM_CM1:.0f} cm-1 (dashed, scaled to the strongest stick); wavelength on the top axis.", {})
@@ -544,7 +546,8 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
                 {"pathway": pw["name"]})
     fam: dict[tuple[str, str, str], list[dict]] = {}
     for row in data.get("isomer_populations", []):
-        fam.setdefault((row["family"], row.get("recipe", ""), row.get("basis", "")), []).append(row)
+        if row.get("populations"):
+            fam.setdefault((row["family"], row.get("recipe", ""), row.get("basis", "")), []).append(row)
     for n, ((family, recipe, basis), rows) in enumerate(fam.items()):
         add(populations_figure(rows), f"populations-{n}", "populations", f"Populations of {family}",
             f"Boltzmann populations of isomer family {family} (recipe {recipe}, from {basis or 'relative'} energies) at each temperature.",

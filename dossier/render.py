@@ -143,7 +143,9 @@ def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
     env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
                                keep_trailing_newline=True)
     env.filters.update(num=fmt_num, rate=fmt_rate, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
-                       sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label)
+                       sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label,
+                       scheme=lambda x: {"mulliken": "Mulliken", "lowdin": "Löwdin", "hirshfeld": "Hirshfeld",
+                                         "mulliken_sum": "Mulliken (summed)"}.get(str(x), str(x)))
     return env
 
 
@@ -190,6 +192,17 @@ def summary_view(data: dict) -> list[dict]:
     for pw in data.get("pathways", []):
         model = _headline_model(pw)
         rates = sorted((r for r in pw.get("rates", []) if r.get("model") == model), key=lambda r: r.get("temperature_k", 0))
+        exp_all = (pw.get("experiment") or {}).get("rates") or []
+        matched = [e for e in exp_all if e.get("computed_model") in (model, None)]
+        ratios = [e["log10_ratio"] for e in matched if isinstance(e.get("log10_ratio"), (int, float))]
+        agreement = None
+        if matched:
+            agreement = {
+                "n": len(matched), "rows": matched,
+                "log10_min": min(ratios) if ratios else None, "log10_max": max(ratios) if ratios else None,
+                "n_in_68": sum(1 for e in matched if e.get("inside_68")), "n_in_95": sum(1 for e in matched if e.get("inside_95")),
+                "other_models": sorted({e.get("computed_model") for e in exp_all if e.get("computed_model") not in (model, None)}),
+            }
         out.append({
             "pathway": pw,
             "reactant": _where_electron(states.get(pw.get("reactant")), scheme),
@@ -199,7 +212,7 @@ def summary_view(data: dict) -> list[dict]:
             "driving_force": _energy(pw.get("delta_g0_kj_mol"), unit),
             "model": model,
             "rates": rates,
-            "experiment": (pw.get("experiment") or {}).get("rates") or [],
+            "experiment": exp_all, "agreement": agreement,
             "band": (pw.get("experiment") or {}).get("band"),
         })
     return out
@@ -278,10 +291,11 @@ def population_tables(data: dict) -> list[dict]:
         rows = sorted(rows, key=lambda r: r["temperature_k"])
         states: list[str] = []
         for r in rows:
-            states += [s for s in r["populations"] if s not in states]
+            states += [s for s in (r.get("populations") or {}) if s not in states]
+        notes = sorted({r["note"] for r in rows if r.get("note")})
         out.append({"family": family, "recipe": recipe, "basis": basis or "relative",
-                    "temperatures": [r["temperature_k"] for r in rows],
-                    "rows": [{"state": s, "cells": [r["populations"].get(s) for r in rows]} for s in states]})
+                    "temperatures": [r["temperature_k"] for r in rows], "notes": notes,
+                    "rows": [{"state": s, "cells": [(r.get("populations") or {}).get(s) for r in rows]} for s in states]})
     return out
 
 
