@@ -345,14 +345,22 @@ def _check_levels(c: _Collector, project: Project, names: list[str], recipe_name
             for what_part, r in sources:
                 if (lv := _level(r)):
                     parts[what_part].setdefault(lv.casefold(), [lv]).append(n)
-        for part, by_level in parts.items():
-            if len(by_level) > 1:
-                desc = "; ".join(f"{ns[0]}: {', '.join(ns[1:])}" for ns in by_level.values())
-                sev, tail = ("info", "the recipe allows mixed levels") if rc.mixed_levels else (
-                    "error", "energies at different levels do not subtract; use one level or set "
-                             "mixed_levels = true in the recipe")
-                c.add(sev, "LEVEL-MIX", f"{what}, recipe '{rname}': the {part} comes from different levels "
-                                        f"({desc}); {tail}", state=None)
+        mixed = {part: by_level for part, by_level in parts.items() if len(by_level) > 1}
+        if mixed:
+            desc = "; ".join(f"{part}: " + ", ".join(f"{ns[0]} ({', '.join(ns[1:])})" for ns in by_level.values())
+                             for part, by_level in mixed.items())
+            sev, tail = ("info", "the recipe allows mixed levels") if rc.mixed_levels else (
+                "error", "energies at different levels do not subtract; use one level or set "
+                         "mixed_levels = true in the recipe")
+            # name the odd one out: the first state outside the most common level of the first mixed part
+            groups = sorted(next(iter(mixed.values())).values(), key=lambda ns: -len(ns))
+            odd = groups[-1][1]
+            part_name = next(iter(mixed))
+            st = project.states[odd]
+            rec = {"electronic energy": _electronic_record(project, st, rname)[1], "geometry": st.geometry,
+                   "thermal correction": st.frequencies}[part_name]
+            c.add(sev, "LEVEL-MIX", f"{what}, recipe '{rname}': levels of theory differ along the profile "
+                                    f"[{desc}]; {tail}", state=odd, record=rec)
 
 
 def _check_pathway(c: _Collector, project: Project, pw) -> None:
