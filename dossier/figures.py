@@ -124,6 +124,15 @@ def _with_rc(fn):
     return wrapper
 
 
+#: Smallest energy range an energy-profile axis shows (display choice).
+MIN_PROFILE_SPAN_KJ_MOL = 2.0
+
+
+def _fixed(value: float, digits: int) -> str:
+    text = f"{value:.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text) == 0.0 else text
+
+
 def _t(text) -> str:
     """User text for matplotlib: '$' would start mathtext, so it is escaped."""
     return str(text).replace("$", r"\$")
@@ -143,6 +152,15 @@ def profile_quantity(point: dict, temperature_k: float | None) -> tuple[float | 
     if key is not None:
         return point["gibbs_kj_mol"][key], "G"
     return point.get("electronic_kj_mol"), "E"
+
+
+def profile_values(profile: dict, temperature_k: float | None) -> tuple[list[tuple[str, float]], str]:
+    """(state, kJ/mol) of a profile: Gibbs at T when every point has it, else electronic energies."""
+    points = profile.get("points") or []
+    gibbs = [profile_quantity(p, temperature_k) for p in points]
+    if points and all(q == "G" and v is not None for v, q in gibbs):
+        return [(p["state"], v) for p, (v, _) in zip(points, gibbs)], "G"
+    return [(p["state"], p["electronic_kj_mol"]) for p in points if p.get("electronic_kj_mol") is not None], "E"
 
 
 def _temperature_key(table: dict, temperature_k: float | None) -> str | None:
@@ -184,15 +202,13 @@ def energy_profile_figure(profiles: list[dict], unit: str, temperature_k: float 
     for i, prof in enumerate(profiles):
         st = _style(i)
         xs, ys = [], []
-        for p in prof.get("points", []):
-            value, q = profile_quantity(p, temperature_k)
-            if value is None:
-                continue
-            quantity_used.add(q)
+        values, q = profile_values(prof, temperature_k)
+        quantity_used.add(q)
+        for state, value in values:
             v = units.kj_mol_to(value, unit)
-            x = x_of[p["state"]]
+            x = x_of[state]
             ax.hlines(v, x - half, x + half, colors=st["color"], linewidth=2.4, linestyles="solid")
-            ax.annotate(f"{v:.1f}", (x, v), xytext=(0, -11 - 9 * i), textcoords="offset points",
+            ax.annotate(_fixed(v, 1), (x, v), xytext=(0, -11 - 9 * i), textcoords="offset points",
                         ha="center", va="center", fontsize=7, color=st["color"])
             xs.append(x)
             ys.append(v)
@@ -203,14 +219,19 @@ def energy_profile_figure(profiles: list[dict], unit: str, temperature_k: float 
     ax.set_xticks(range(len(order)), [_t(s) for s in order])
     ax.set_xlim(-0.6, len(order) - 0.4)
     lo, hi = ax.get_ylim()
-    pad = 0.12 * (hi - lo or 1.0)
+    # nearly degenerate levels: show at least 2 kJ/mol of range, so noise does not look like a gap
+    min_span = units.kj_mol_to(MIN_PROFILE_SPAN_KJ_MOL, unit)
+    if hi - lo < min_span:
+        mid = 0.5 * (hi + lo)
+        lo, hi = mid - 0.5 * min_span, mid + 0.5 * min_span
+    pad = 0.12 * (hi - lo)
     ax.set_ylim(lo - pad, hi + pad)
     symbol = "G" if quantity_used == {"G"} else ("E" if quantity_used == {"E"} else "G or E")
     ax.set_ylabel(f"relative {symbol} / {unit_label(unit)}")
     ax.spines["bottom"].set_visible(False)
     ax.tick_params(axis="x", length=0)
-    if len(profiles) > 1 or profiles:
-        ax.legend(title="recipe", fontsize=7, title_fontsize=7, loc="best")
+    if profiles:
+        ax.legend(title="recipe", fontsize=7, title_fontsize=7, loc="upper left", bbox_to_anchor=(1.0, 1.0))
     return fig
 
 

@@ -281,6 +281,26 @@ def profile_table(profile: dict, unit: str) -> dict:
     return {"temperatures": [float(t) for t in temps], "rows": rows}
 
 
+def band_rows(band: dict | None) -> list[dict]:
+    """Numbers of the measured-band analysis: quantity, value, its error, the computed counterpart."""
+    if not band:
+        return []
+    computed = band.get("computed_vs") or {}
+    rows = []
+    for key, value in band.items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or "_error_" in key:
+            continue
+        err = None
+        for suffix, _ in _UNIT_SUFFIXES:
+            if key.endswith(suffix):
+                err = band.get(key[: -len(suffix)] + "_error" + suffix)
+                break
+        other = computed.get(key)
+        rows.append({"key": key, "label": quantity_label(key), "value": value, "error": err,
+                     "computed": other if isinstance(other, (int, float)) and not isinstance(other, bool) else None})
+    return rows
+
+
 def population_tables(data: dict) -> list[dict]:
     """Isomer populations grouped by (family, recipe, basis): state rows, temperature columns."""
     groups: dict[tuple, list[dict]] = {}
@@ -353,6 +373,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "profile_table": lambda p: profile_table(p, unit),
         "energy": lambda v: _energy(v, unit),
         "loc_rows": localization_rows(data), "sites": sites_in(data), "population_tables": population_tables(data),
+        "band_rows": band_rows,
         "checks": sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or "")),
         "n_errors": sum(1 for c in checks if c.get("severity") == "error"),
         "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),

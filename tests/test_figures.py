@@ -107,8 +107,8 @@ def test_every_figure_is_made_and_the_svg_is_deterministic(data):
 def test_energy_profile_labels_are_in_the_report_unit(data):
     prof = next(p for p in data["energy_profiles"] if p["kind"] == "pathway")
     t = figures.report_temperature(data)
-    point = next(p for p in prof["points"] if p["state"] == "min_b")
-    value_kj, _ = figures.profile_quantity(point, t)
+    values, _ = figures.profile_values(prof, t)
+    value_kj = dict(values)["min_b"]
     svg = figures.figure_to_svg(figures.energy_profile_figure([prof], "kcal/mol", t), "t")
     # kJ -> kcal: thermochemical calorie, 4.184 J (scipy.constants.calorie)
     assert f"{value_kj / constants.calorie:.1f}" in svg and "kcal mol⁻¹" in svg
