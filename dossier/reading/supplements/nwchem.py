@@ -63,7 +63,7 @@ def apply(calc, text: str, data) -> None:
             calc.multiplicity = int(na - nb) + 1
     if calc.level.functional is None and calc.level.method in (None, "HF") and "Total SCF energy" in text:
         calc.level.method = "HF"
-    if re.search(r"COSMO solvation", text, re.I) or "-cosmo-" in text.lower():
+    if "-cosmo-" in text or "COSMO solvation" in text:
         eps = last_float(r"dielectric constant -eps-\s*=\s*(" + FLOAT + ")", text)
         calc.level.solvation = f"COSMO (eps={eps:g})" if eps is not None else "COSMO"
 

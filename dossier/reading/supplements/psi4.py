@@ -96,12 +96,14 @@ def apply(calc, text: str, data) -> None:
     elif totals:
         calc.energies_hartree["scf"] = totals[-1]
         calc.scf_energy_hartree = totals[-1]
-    for name, pat in (("mp2", r"(?<![\w-])MP2 total energy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
-                      ("scs-mp2", r"SCS-MP2 total energy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
+    for name, pat in (("mp2", r"MP2 [Tt]otal [Ee]nergy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
+                      ("scs-mp2", r"SCS-MP2 [Tt]otal [Ee]nergy(?: \(a\.u\.\))?\s*[=:]\s*(" + FLOAT + ")"),
                       ("ccsd", r"\* CCSD total energy\s*=\s*(" + FLOAT + ")"),
                       ("ccsd(t)", r"\* CCSD\(T\) total energy\s*=\s*(" + FLOAT + ")")):
-        v = last_float(pat, text, re.I if "mp2" in name else 0)
-        if v is not None:
+        # literal-first patterns (fast); "MP2" must not be the tail of "SCS-MP2" or "SOS-MP2"
+        hits = [m for m in re.finditer(pat, text) if name != "mp2" or text[m.start() - 1] in " \t*"]
+        if hits:
+            v = float(hits[-1].group(1))
             for k in [k for k in calc.energies_hartree if k.startswith("cc") and k not in ("ccsd", "ccsd(t)")]:
                 del calc.energies_hartree[k]
             calc.energies_hartree[name] = v
