@@ -489,7 +489,7 @@ def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool
         if label:
             ax.text(p[i, 0], p[i, 1] + (0.0 if not numbered else r + 0.12), label, ha="center",
                     va="center" if not numbered else "bottom", fontsize=6 if numbered else 7, zorder=10,
-                    bbox=dict(boxstyle="round,pad=0.1", facecolor="white", edgecolor="none", alpha=0.8) if numbered else None)
+                    bbox=dict(boxstyle="round,pad=0.12", facecolor="white", edgecolor="none", alpha=0.85))
     if len(p):
         ax.set_xlim(p[:, 0].min() - 0.7, p[:, 0].max() + 0.7)
         ax.set_ylim(p[:, 1].min() - 0.7, p[:, 1].max() + 0.9)

@@ -112,6 +112,12 @@ def quantity_label(key: Any) -> str:
     return key.replace("_", " ")
 
 
+def formula_markup(text: Any) -> Markup:
+    """'C6H4N2O4' -> C<sub>6</sub>H<sub>4</sub>... (the text is escaped first)."""
+    escaped = str(Markup.escape(text or "–"))
+    return Markup(re.sub(r"(?<=[A-Za-z)])(\d+)", r"<sub>\1</sub>", escaped))
+
+
 class Numberer:
     """Supplement numbering: Table S1, Figure S1 ... in order of first use; same key, same number."""
 
@@ -143,7 +149,7 @@ def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
     env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
                                keep_trailing_newline=True)
     env.filters.update(num=fmt_num, rate=fmt_rate, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
-                       sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label,
+                       sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label, formula=formula_markup,
                        scheme=lambda x: {"mulliken": "Mulliken", "lowdin": "Löwdin", "hirshfeld": "Hirshfeld",
                                          "mulliken_sum": "Mulliken (summed)"}.get(str(x), str(x)))
     return env
