@@ -498,7 +498,9 @@ def _lambda_routes(ctx, pw, modes) -> tuple[list[dict], list[dict], dict | None]
                                 p.states[pw.reactant].frequencies.level.label(),
                                 "lambda = sum_j (1/2) omega_j^2 Q_j^2, reactant modes displaced to the product "
                                 "geometry (harmonic; Huang & Rhys 1950; Reimers, J. Chem. Phys. 2001, 115, 9103)",
-                                kind="inner-sphere, harmonic"),
+                                kind="inner-sphere, harmonic",
+                                note="the reactant's adiabatic Hessian is softened by the coupling along the transfer "
+                                     "coordinate, so this underestimates lambda when H_ab is large"),
         })
     return routes, missing, fit
 
@@ -737,7 +739,8 @@ def _arrhenius(ctx, pw, inp_for: Callable[[list[float]], _RateInputs]) -> list[d
 # ---------------------------------------------------------------------------
 # Pathways
 # ---------------------------------------------------------------------------
-def _mlj_parameters(lam: dict | None, lam_routes: list[dict], modes: dict | None) -> tuple[dict | None, str | None]:
+def _mlj_parameters(lam: dict | None, lam_routes: list[dict], modes: dict | None,
+                    rt_ref: float) -> tuple[dict | None, str | None]:
     if lam is None:
         return None, "no reorganization energy"
     if modes is None or modes.get("effective_mode_cm1") is None:
@@ -745,9 +748,11 @@ def _mlj_parameters(lam: dict | None, lam_routes: list[dict], modes: dict | None
     inner_route = _pick(lam_routes, "four-point") or _pick(lam_routes, "normal-mode-projection")
     lam_q = modes["quantum_share"] * inner_route["value_kj_mol"]
     lam_s = lam["value_kj_mol"] - lam_q
-    if lam_s <= 0:
-        return None, (f"the quantum-mode part of lambda ({lam_q:.1f} kJ/mol, from {inner_route['route']}) is not "
-                      f"smaller than the total ({lam['value_kj_mol']:.1f} kJ/mol, {lam['route']})")
+    if lam_s < rt_ref:
+        return None, (f"the classical (solvent and low-frequency) part of lambda, {lam_s:.2f} kJ/mol = total "
+                      f"{lam['value_kj_mol']:.1f} kJ/mol ({lam['route']}) minus the quantum-mode part "
+                      f"{lam_q:.1f} kJ/mol ({inner_route['route']}), is below RT ({rt_ref:.2f} kJ/mol): the "
+                      "single-mode sum is then a comb of sharp lines, not a rate (common practice, no source)")
     nu = modes["effective_mode_cm1"]
     return {"solvent_reorganization_kj_mol": lam_s, "quantum_reorganization_kj_mol": lam_q, "mode_cm1": nu,
             "huang_rhys": marcus.huang_rhys_factor(lam_q, nu), "inner_route": inner_route["route"],
@@ -806,7 +811,7 @@ def _pathway_entry(ctx, pw) -> dict:
 
     double_well = _double_well(ctx, pw)
     rd = marcus.robin_day_class(hab["value_cm1"] if hab else None, lam["value_kj_mol"] if lam else None, double_well)
-    mlj, mlj_reason = _mlj_parameters(lam, lam_routes, modes)
+    mlj, mlj_reason = _mlj_parameters(lam, lam_routes, modes, u.rt_kj_mol(ctx.t_ref))
     nu_n = modes["nuclear_frequency_cm1"] if modes else None
     levels = {k: pw.levels.get(k, pw.recipe) for k in ("driving_force", "barrier", "reorganization_energy", "coupling")}
     inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels)

@@ -203,9 +203,19 @@ def fit_two_state_model(
     if len(obs) < 2:
         raise ValueError("the two-state fit needs at least two of: barrier, gap at reactant, at TS, at product")
     dg0 = float(delta_e0_kj_mol)
-    lam0 = obs.get("gap_at_reactant_kj_mol", 4.0 * obs.get("barrier_kj_mol", 50.0)) - dg0
-    lam0 = max(lam0, 1.0)
-    h0 = obs.get("gap_at_ts_kj_mol", 0.1 * lam0) / 2.0 / u.CM1_KJ_MOL
+    # starting points: lambda from the gap at the reactant (Hush), and the class-II root of the symmetric
+    # relations B = (lambda - G)^2 / (4 lambda), G = 2 H_ab (barrier B, gap G at the TS); the best fit wins
+    b, g = obs.get("barrier_kj_mol"), obs.get("gap_at_ts_kj_mol")
+    starts = []
+    if "gap_at_reactant_kj_mol" in obs:
+        starts.append(obs["gap_at_reactant_kj_mol"] - dg0)
+    if b is not None and g is not None and b >= 0:
+        starts.append(g + 2.0 * b + 2.0 * math.sqrt(b * b + b * g))
+    if b is not None:
+        starts.append(4.0 * max(b, 0.0) + (g or 0.0))
+    if g is not None:
+        starts.append(2.0 * g)
+    starts = [max(x, 1.0) for x in starts] or [50.0]
 
     def residuals(p):
         lam, h = p
@@ -218,8 +228,14 @@ def fit_two_state_model(
             out.append(m - value)
         return out
 
-    res = optimize.least_squares(residuals, x0=[lam0, h0], bounds=([1e-6, 0.0], [np.inf, np.inf]),
-                                 x_scale=[lam0, max(h0, 1.0)], xtol=1e-12, ftol=1e-12)
+    best = None
+    for lam0 in starts:
+        h0 = (g / 2.0 if g is not None else 0.1 * lam0) / u.CM1_KJ_MOL
+        res = optimize.least_squares(residuals, x0=[lam0, h0], bounds=([1e-6, 0.0], [np.inf, np.inf]),
+                                     x_scale=[lam0, max(h0, 1.0)], xtol=1e-12, ftol=1e-12)
+        if best is None or res.cost < best.cost - 1e-12:
+            best = res
+    res = best
     lam, h = (float(v) for v in res.x)
     rms = float(np.sqrt(np.mean(np.square(res.fun))))
     return {"reorganization_energy_kj_mol": lam, "coupling_cm1": h, "rms_residual_kj_mol": rms,
