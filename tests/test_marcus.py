@@ -136,6 +136,15 @@ def test_two_state_fit_recovers_parameters():
                                 gap_at_ts_kj_mol=truth["gap_at_ts_kj_mol"])
     assert fit["reorganization_energy_kj_mol"] == pytest.approx(95.0, rel=1e-4)
     assert fit["coupling_cm1"] == pytest.approx(900.0, rel=1e-4)
+    # with only the barrier and the TS gap (no excitation at the minimum) the class-II root is found:
+    # B = (lambda - G)^2 / (4 lambda), G = 2 H_ab, solved by hand: lambda = G + 2B + 2 (B^2 + B G)^1/2
+    lam, h = 67.6, 1983.0
+    obs = m.two_state_observables_kj_mol(lam, 0.0, h)
+    fit2 = m.fit_two_state_model(delta_e0_kj_mol=0.0, barrier_kj_mol=obs["barrier_kj_mol"],
+                                 gap_at_ts_kj_mol=obs["gap_at_ts_kj_mol"])
+    b, g = obs["barrier_kj_mol"], obs["gap_at_ts_kj_mol"]
+    assert fit2["reorganization_energy_kj_mol"] == pytest.approx(g + 2 * b + 2 * math.sqrt(b * b + b * g), rel=1e-6)
+    assert fit2["reorganization_energy_kj_mol"] == pytest.approx(lam, rel=1e-4)
 
 
 # --- coupling routes ---------------------------------------------------------------------
