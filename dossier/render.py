@@ -371,6 +371,8 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
     return {
         "d": data, "project": project, "unit": unit, "unit_label": unit_label(unit), "digits": _digits(unit),
         "t_ref": report_temperature(data),
+        # RT ln 10: the barrier change that changes a TST rate tenfold, at the report temperature
+        "decade_kj_mol": units.rt_kj_mol(report_temperature(data) or 298.15) * math.log(10.0),
         "sections": sections, "section_number": {s["id"]: s["number"] for s in sections},
         "num": Numberer(),
         "figures": figs_by_section, "figure_for": figs_by_subject,
