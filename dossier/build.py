@@ -209,7 +209,7 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
 
     t0 = time.perf_counter()
     say("analysing (thermochemistry, localization, rates, uncertainty, checks)")
-    data = complete_data(analyse(project), project)
+    data = complete_data(analyse(project, progress=lambda done, total: say(f"analysing: {done}/{total}")), project)
     timings["analysis"] = time.perf_counter() - t0
 
     checks = data.get("checks") or []

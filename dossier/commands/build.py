@@ -46,7 +46,8 @@ def run(args) -> int:
             print(f"  ... and {len(errors) - 10} more", file=sys.stderr)
     if result.n_warnings:
         print(f"build: {result.n_warnings} warning{'s' if result.n_warnings != 1 else ''} from the checks", file=sys.stderr)
-    print(f"build: wrote {len(result.files)} files to {result.out_dir}", file=sys.stderr)
+    n = len(result.files)
+    print(f"build: wrote {n} file{'s' if n != 1 else ''} to {result.out_dir}", file=sys.stderr)
     for name in sorted(result.files):
         print(result.files[name])
     return 0
