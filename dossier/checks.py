@@ -148,6 +148,7 @@ def _check_status(c: _Collector, state: str | None, part: str, rec: Calculation)
     elif st.word == "failed":
         c.add("error", "RUN-FAILED", f"{w}: the job ended with an error{why}", state=state, record=rec)
     if st.word != "truncated":
+        why = f" ({st.reason})" if st.reason and "converge" not in st.reason else ""
         if st.scf_converged is False:
             c.add("error", "SCF-CONV", f"{w}: the SCF did not converge{why}; rerun it to convergence",
                   state=state, record=rec)
