@@ -2,7 +2,8 @@
 
 Each subcommand lives in its own module under dossier/commands/ and defines
 ``HELP`` (one line), ``add_arguments(parser)`` and ``run(args) -> int``.
-Modules are discovered, so adding a command touches no other file.
+Modules are discovered, so adding a command touches no other file. Only the module of the
+command being run is imported (start-up stays fast); `dossier --help` imports them all.
 """
 from __future__ import annotations
 
@@ -19,13 +20,19 @@ EXIT_FINDINGS = 1  # the command ran and found problems (check errors, verify fa
 EXIT_ERROR = 2  # the command could not do its job (bad input, bad manifest)
 
 
-def _command_modules():
-    for info in sorted(pkgutil.iter_modules(commands.__path__), key=lambda m: m.name):
-        if not info.name.startswith("_"):
-            yield info.name, importlib.import_module(f"dossier.commands.{info.name}")
+def command_names() -> list[str]:
+    return sorted(m.name for m in pkgutil.iter_modules(commands.__path__) if not m.name.startswith("_"))
 
 
-def build_parser() -> argparse.ArgumentParser:
+def _chosen_command(argv: list[str], names: list[str]) -> str | None:
+    """The subcommand named on the command line, if any (the first word that is not an option)."""
+    for word in argv:
+        if not word.startswith("-"):
+            return word if word in names else None
+    return None
+
+
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="dossier",
         description="Turn an electron-transfer study's quantum-chemistry outputs into a checked dossier.",
@@ -33,7 +40,10 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"dossier {__version__}")
     parser.add_argument("--debug", action="store_true", help="show a traceback on errors")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    for name, module in _command_modules():
+    for name in command_names():
+        if only is not None and name != only:
+            continue
+        module = importlib.import_module(f"dossier.commands.{name}")
         p = sub.add_parser(name, help=module.HELP, description=module.HELP)
         p.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help="show a traceback on errors")
         module.add_arguments(p)
@@ -42,7 +52,8 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
+    argv = sys.argv[1:] if argv is None else list(argv)
+    parser = build_parser(only=_chosen_command(argv, command_names()))
     args = parser.parse_args(argv)
     if not getattr(args, "_run", None):
         parser.print_help(sys.stderr)
