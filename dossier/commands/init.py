@@ -228,12 +228,30 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
         if len(minima) >= 2:
             families.append((key, minima))
 
-    # recipes: the geometry level, plus one per single-point label every state of a profile has
-    all_thermal = all(d.freq_rec is not None for d in drafts)
-    levels = {_level_key(d.geom_rec) for d in drafts}
-    geom_label = (drafts[0].geom_rec.level.functional or drafts[0].geom_rec.level.method or "dft").lower() if drafts else "dft"
-    main_recipe = geom_label if len(levels) == 1 else "default"
-    sp_labels = set.intersection(*(set(d.single_points) for d in drafts)) if drafts else set()
+    # recipes: one per level of the profiles' geometry jobs, plus one per single-point label
+    # that every profile state of that level has
+    in_profile: dict[str, _Draft] = {}
+    for ts, a, b, _ in pathways:
+        in_profile.update({d.name: d for d in (ts, a, b)})
+    for _, minima in families:
+        in_profile.update({d.name: d for d in minima})
+    recipe_of_level: dict[str, dict] = {}
+    taken_recipes: set[str] = set()
+    for d in in_profile.values():
+        lk = _level_key(d.geom_rec)
+        if lk not in recipe_of_level:
+            lv = d.geom_rec.level
+            name = _unique(re.sub(r"[^a-z0-9()*+,.-]+", "_", (lv.functional or lv.method or "level").lower()),
+                           taken_recipes)
+            recipe_of_level[lk] = {"name": name, "states": []}
+        recipe_of_level[lk]["states"].append(d)
+    for info in recipe_of_level.values():
+        ds = info["states"]
+        info["thermal"] = "frequencies" if all(d.freq_rec is not None for d in ds) else "none"
+        info["sp_labels"] = sorted(set.intersection(*(set(d.single_points) for d in ds)))
+
+    def recipe_for(d: _Draft) -> dict:
+        return recipe_of_level[_level_key(d.geom_rec)]
 
     lines = [
         "# Draft manifest written by `dossier init`. Every line marked `# guess:` is a guess:",
@@ -281,20 +299,18 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
             lines.append(f"single_points.{_key(label)} = {_q(rel(p))}  # guess: single point at this geometry — confirm")
         lines.append("")
 
-    if drafts:
-        lines.append(f"[recipes.{_key(main_recipe)}]")
+    for info in recipe_of_level.values():
+        lines.append(f"[recipes.{_key(info['name'])}]")
         lines.append('electronic = "geometry"')
-        thermal = "frequencies" if all_thermal else "none"
-        why = "every state has a frequency job" if all_thermal else "some state has no frequency job"
-        lines.append(f"thermal = {_q(thermal)}  # guess: {why} — confirm")
-        if len(levels) > 1:
-            lines.append("mixed_levels = true  # guess: the optimisations use different levels — confirm")
+        why = ("every state it is used for has a frequency job" if info["thermal"] == "frequencies"
+               else "some state it is used for has no frequency job")
+        lines.append(f"thermal = {_q(info['thermal'])}  # guess: {why} — confirm")
         lines.append("")
-        for label in sorted(sp_labels):
-            name = f"{label}//{main_recipe}"
-            lines.append(f"[recipes.{_key(name)}]  # guess: every state has single point '{label}' — confirm")
+        for label in info["sp_labels"]:
+            lines.append(f"[recipes.{_key(label + '//' + info['name'])}]  # guess: every state at this level has "
+                         f"single point '{label}' — confirm")
             lines.append(f"electronic = {_q(label)}")
-            lines.append(f"thermal = {_q(thermal)}")
+            lines.append(f"thermal = {_q(info['thermal'])}")
             lines.append("")
 
     for i, (ts, a, b, cos) in enumerate(pathways, 1):
@@ -304,22 +320,24 @@ def draft_manifest(folder: Path, out_file: Path, records: list[tuple[Path, Calcu
         lines.append(f"reactant = {_q(a.name)}")
         lines.append(f"transition_state = {_q(ts.name)}")
         lines.append(f"product = {_q(b.name)}")
-        lines.append(f"recipe = {_q(main_recipe)}")
+        info = recipe_for(ts)
+        lines.append(f"recipe = {_q(info['name'])}")
         lines.append('# donor_site = "site_a"      # name the sites under [sites] and add them here')
         lines.append('# acceptor_site = "site_b"')
-        if sp_labels:
-            ladder = [main_recipe] + [f"{lab}//{main_recipe}" for lab in sorted(sp_labels)]
+        if info["sp_labels"]:
+            ladder = [info["name"]] + [f"{lab}//{info['name']}" for lab in info["sp_labels"]]
             lines.append(f"ladder = [{', '.join(_q(x) for x in ladder)}]  # guess: every recipe is a rung — confirm")
         lines.append("")
     taken_names = {f"{a.name}_to_{b.name}" for _, a, b, _ in pathways}
     for key, minima in families:
         formula, charge, mult, _lv = key
-        name = _unique(f"{formula} charge {charge} multiplicity {mult}", taken_names)
+        name = _unique(f"{formula} charge {charge} multiplicity {mult}, {minima[0].geom_rec.level.label()}",
+                       taken_names)
         lines.append(f"[[isomer_families]]  # guess: {len(minima)} minima of {formula}, charge {charge}, "
                      f"multiplicity {mult} at one level — confirm")
         lines.append(f"name = {_q(name)}")
         lines.append(f"states = [{', '.join(_q(d.name) for d in minima)}]")
-        lines.append(f"recipe = {_q(main_recipe)}")
+        lines.append(f"recipe = {_q(recipe_for(minima[0])['name'])}")
         lines.append("")
     fp_lines, explained = _four_point_candidates(drafts, unused, dict(usable), rel)
     lines += fp_lines
@@ -418,11 +436,11 @@ def run(args) -> int:
     if out.exists() and not args.force:
         raise ManifestError("already exists; not replaced (use --force to replace it, or --out FILE)", where=str(out))
     notes: list[str] = []
-    paths = [p.resolve() for p in find_outputs(folder, notes=notes)]
+    paths = [Path(os.path.abspath(p)) for p in find_outputs(folder, notes=notes)]
     if not paths:
         raise DossierError("no output files (*.out, *.log, *.output) found in this folder", where=str(folder))
     results = read_many(paths, jobs=args.jobs, use_cache=not args.no_cache)
-    text = draft_manifest(folder, out.resolve(), list(zip(paths, results)))
+    text = draft_manifest(folder, Path(os.path.abspath(out)), list(zip(paths, results)))
     write_atomically(out, text)
     n_states = text.count("\n[states.")
     n_guess = text.count("# guess:")
