@@ -333,3 +333,31 @@ def test_cli_against_a_previous_build(tmp_path, capsys):
     assert [f["file"] for f in out if f["code"] == "SRC-CHANGED"] == [str(gopt)]
     (build / "dossier.json").write_text("{}")
     assert main(["check", str(path), "--against", str(build / "dossier.json")]) == 2
+
+
+def test_imaginary_threshold_on_the_demo_transition_state(tmp_path):
+    # Outside reference: NWChem's own frequency table in ts_freq.out ("P.Frequency" rows), whose
+    # one negative entry is the imaginary mode of the C2v saddle point.
+    ts_opt, ts_freq = demo_path("pathway/ts_opt.out"), demo_path("pathway/ts_freq.out")
+    printed = [float(x) for line in ts_freq.read_text().splitlines() if line.startswith(" P.Frequency")
+               for x in line.split()[1:]]
+    imaginary = [w for w in printed if w < -20.0]
+    if len(imaginary) != 1:
+        pytest.skip("the demo's TS frequency job is not finished")
+
+    def findings(role, threshold):
+        return checks.run_checks(_project(tmp_path, f"""\
+            [project]
+            imaginary_threshold_cm1 = {threshold}
+            [states.ts]
+            role = "{role}"
+            geometry = "{ts_opt}"
+            frequencies = "{ts_freq}"
+            """))
+
+    assert not _codes(findings("transition-state", 20.0)) & {"IMAG-TS", "IMAG-MIN", "IMAG-NOISE"}
+    as_minimum = [f for f in findings("minimum", 20.0) if f.code == "IMAG-MIN"]
+    assert len(as_minimum) == 1 and f"{abs(imaginary[0]):.1f}i" in as_minimum[0].message
+    # a threshold above |nu| makes the mode "noise": a warning, and the TS role then fails
+    noisy = findings("transition-state", abs(imaginary[0]) + 100.0)
+    assert "IMAG-NOISE" in _codes(noisy, "warning") and "IMAG-TS" in _codes(noisy, "error")
