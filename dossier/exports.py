@@ -443,7 +443,10 @@ def _tex_table(caption: str, label: str, header: list[str], rows: list[list[str]
 
 
 def _f(x: Any, digits: int = 1) -> str:
-    return "--" if x is None else f"{x:.{digits}f}"
+    if x is None:
+        return "--"
+    text = f"{x:.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text) == 0.0 else text  # no "-0.0"
 
 
 def latex_text(data: dict) -> str:

@@ -59,7 +59,7 @@ def fmt_num(x: Any, digits: int = 1) -> str:
     if isinstance(x, bool) or not isinstance(x, (int, float)):
         return str(x)
     text = f"{x:.{digits}f}"
-    return "0." + "0" * digits if text.lstrip("-").strip("0.") == "" and digits > 0 else text
+    return text[1:] if text.startswith("-") and float(text) == 0.0 else text  # no "-0.0"
 
 
 def fmt_rate(x: Any) -> str:
