@@ -288,10 +288,16 @@ def _last_dft_energy(path: Path) -> float:
 
 
 def _last_spin_block(path: Path) -> list[float]:
+    """Mulliken spin populations per atom from the last block NWChem printed (DFT module or property module)."""
     text = path.read_text()
-    i = text.rfind("----- Atomic spin population -----")
-    assert i >= 0, f"no spin population block in {path}"
-    rows = re.findall(r"^\s+\d+\s+[A-Za-z]{1,2}\s+-?\d+\.\d+\s+(-?\d+\.\d+)\s*$", text[i:i + 20000], re.M)
+    i = text.rfind("Spin Density - Mulliken Population Analysis")
+    if i >= 0:  # "    7 N    7     0.22   0.00 ..." (atom, element, Z, spin, shells)
+        block = text[i:i + 20000].split("Population Analysis", 2)[1]
+        rows = re.findall(r"^\s+\d+\s+[A-Z][a-z]?\s+\d+\s+(-?\d+\.\d+)", block, re.M)
+    else:
+        i = text.rfind("----- Atomic spin population -----")
+        assert i >= 0, f"no spin population block in {path}"
+        rows = re.findall(r"^\s+\d+\s+[A-Za-z]{1,2}\s+-?\d+\.\d+\s+(-?\d+\.\d+)\s*$", text[i:i + 20000], re.M)
     return [float(x) for x in rows]
 
 
