@@ -309,6 +309,7 @@ BROKEN_MANIFESTS = {
     "unknown-key": ("frequencies = \"runs/freq.out\"\n\n[states.b]", "frequences = \"runs/freq.out\"\n\n[states.b]"),
     "unknown-top-table": ("[sites]", "[sights]\nx = 1\n\n[sites]"),
     "unknown-state": ('product = "b"', 'product = "c"'),
+    "reactant-is-product": ('product = "b"', 'product = "a"'),
     "unknown-site": ('acceptor_site = "ring_b"', 'acceptor_site = "ring_c"'),
     "unknown-recipe": ('recipe = "dft"\n', 'recipe = "ccsd"\n'),
     "recipe-self-cycle": ('electronic = "geometry"\nthermal = "frequencies"', 'based_on = "dft"'),
