@@ -363,3 +363,57 @@ def test_imaginary_threshold_on_the_demo_transition_state(tmp_path):
     # a threshold above |nu| makes the mode "noise": a warning, and the TS role then fails
     noisy = findings("transition-state", abs(imaginary[0]) + 100.0)
     assert "IMAG-NOISE" in _codes(noisy, "warning") and "IMAG-TS" in _codes(noisy, "error")
+
+
+def test_ts_mode_direction_on_the_demo_pathway(tmp_path):
+    # Real NWChem transition state (C2v, electron shared) between the two localized minima.
+    # Outside reference for the projection: ASE's minimize_rotation_and_translation for the
+    # superposition, numpy for the cosine.
+    from ase import Atoms
+    from ase.build import minimize_rotation_and_translation
+    from dossier.reading import read
+
+    files = {k: demo_path(f"pathway/{k}.out") for k in ("min_a_opt", "min_b_opt", "ts_opt", "ts_freq")}
+    twisted = demo_path("survey/xtb_twisted.out")  # nitro groups rotated: another motion entirely
+    ts = read(files["ts_freq"])
+    if ts.vibrations is None or ts.vibrations.n_imaginary != 1:
+        pytest.skip("the demo's TS frequency job is not finished")
+
+    def ase_cos(a_path, b_path):
+        ref = Atoms(ts.elements, ts.coordinates_angstrom)
+        moved = []
+        for p in (a_path, b_path):
+            r = read(p)
+            at = Atoms(r.elements, r.coordinates_angstrom)
+            minimize_rotation_and_translation(ref, at)
+            moved.append(at.positions)
+        d = (moved[1] - moved[0]).ravel()
+        m = np.asarray(ts.vibrations.displacements[0]).ravel()
+        return abs(d @ m) / np.linalg.norm(d) / np.linalg.norm(m)
+
+    def ts_mode_findings(product):
+        return [f for f in checks.run_checks(_project(tmp_path, f"""\
+            [states.a]
+            geometry = "{files['min_a_opt']}"
+            [states.t]
+            role = "transition-state"
+            geometry = "{files['ts_opt']}"
+            frequencies = "{files['ts_freq']}"
+            [states.b]
+            geometry = "{product}"
+            [recipes.e]
+            thermal = "none"
+            mixed_levels = true
+            [[pathways]]
+            name = "p"
+            reactant = "a"
+            transition_state = "t"
+            product = "b"
+            """)) if f.code == "TS-MODE"]
+
+    assert ase_cos(files["min_a_opt"], files["min_b_opt"]) >= checks.TS_MODE_COS_OK
+    assert ts_mode_findings(files["min_b_opt"]) == []
+    cos_wrong = ase_cos(files["min_a_opt"], twisted)
+    wrong = ts_mode_findings(twisted)
+    assert cos_wrong < checks.TS_MODE_COS_OK and len(wrong) == 1
+    assert f"|cos| = {cos_wrong:.2f}" in wrong[0].message
