@@ -235,9 +235,13 @@ class Project:
     def label(self, item: Calculation | Path | str) -> str:
         """The path of a record or file as the manifest writes it (relative to the manifest)."""
         if isinstance(item, Calculation):
-            for p, rec in self.records.items():
-                if rec is item:
-                    return self.label(p)
+            cache = self.__dict__.setdefault("_label_by_id", {})
+            if len(cache) != len(self.records):
+                cache.clear()
+                for p, rec in reversed(list(self.records.items())):
+                    cache[id(rec)] = p
+            if id(item) in cache and self.records.get(cache[id(item)]) is item:
+                return self.label(cache[id(item)])
             path = Path(item.source.path)
         else:
             path = Path(item)
