@@ -485,22 +485,26 @@ def _check_duplicates(c: _Collector, project: Project) -> None:
                                        "two states cannot be one calculation", state=st.name, file=key)
         else:
             by_file[key] = st.name
-    names = list(project.states)
-    for i, na in enumerate(names):
+    # same structure, same energy: sort by energy and compare only within the energy window
+    labels = {n: project.label(st.geometry) for n, st in project.states.items()}
+    order = {n: i for i, n in enumerate(project.states)}
+    items = sorted(((st.geometry.energy_hartree, n) for n, st in project.states.items()
+                    if st.geometry.energy_hartree is not None and st.geometry.coordinates_angstrom),
+                   key=lambda x: x[0])
+    for i, (ea, na) in enumerate(items):
         a = project.states[na].geometry
-        for nb in names[i + 1:]:
+        for eb, nb in items[i + 1:]:
+            if eb - ea > DUPLICATE_ENERGY_HARTREE:
+                break
             b = project.states[nb].geometry
-            if project.label(a) == project.label(b) or a.elements != b.elements or not a.coordinates_angstrom \
-                    or not b.coordinates_angstrom:
+            if labels[na] == labels[nb] or a.elements != b.elements:
                 continue
-            if a.energy_hartree is None or b.energy_hartree is None:
-                continue
-            if abs(a.energy_hartree - b.energy_hartree) > DUPLICATE_ENERGY_HARTREE:
-                continue
+            first, second = sorted((na, nb), key=order.get)
             if geometry.kabsch_rmsd(a.coordinates_angstrom, b.coordinates_angstrom) <= SAME_GEOMETRY_RMSD_ANGSTROM:
-                c.add("warning", "DUP-STATE", f"'{na}' and '{nb}' are the same structure (RMSD <= "
+                c.add("warning", "DUP-STATE", f"'{first}' and '{second}' are the same structure (RMSD <= "
                                               f"{SAME_GEOMETRY_RMSD_ANGSTROM} A) with the same energy; both "
-                                              "optimisations reached one minimum", state=nb, record=b)
+                                              "optimisations reached one minimum", state=second,
+                      record=project.states[second].geometry)
 
 
 def _check_sources(c: _Collector, project: Project, previous_sources) -> None:

@@ -245,9 +245,11 @@ class Project:
             path = Path(item.source.path)
         else:
             path = Path(item)
+        labels = self.manifest.file_labels if self.manifest else {}
+        if path in labels:  # the manifest's own (already normalized) paths: no file-system call
+            return labels[path]
         if not path.is_absolute():
             path = self.root / path
-        labels = self.manifest.file_labels if self.manifest else {}
         key = _norm(path)
         if key in labels:
             return labels[key]
