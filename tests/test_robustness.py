@@ -625,3 +625,123 @@ def test_build_interrupted_during_the_pdf_step_leaves_the_previous_dossier(built
         assert stderr.strip().splitlines()[-1].startswith("dossier: "), stderr[-2000:]
         assert sorted(p.name for p in out.parent.iterdir()) == beside
     assert _tree(manifest.parent) == project_before
+
+
+# -- property-based: one or two values of a complete, valid project changed -------------------
+
+_BASE_PROJECT = {
+    "project": {"title": "t", "temperatures_k": [250.0, 298.15], "energy_unit": "kJ/mol", "standard_state": "1M",
+                "qrrho": "grimme"},
+    "sites": {"x": [1, 2, 3], "y": [4, 5, 6], "br": [7, 8]},
+    "states": {"a": {"role": "minimum", "geometry": "a.out", "frequencies": "b.out", "excited_states": "d.out",
+                     "single_points": {"sp": "c.out"}},
+               "t": {"role": "transition-state", "geometry": "c.out", "frequencies": "b.out"},
+               "b": {"geometry": "a.out", "frequencies": "b.out", "single_points": {"sp": "a.out"}}},
+    "recipes": {"dft": {"electronic": "geometry", "thermal": "frequencies"}, "sp": {"electronic": "sp", "thermal": "none"}},
+    "pathways": [{"name": "p", "reactant": "a", "transition_state": "t", "product": "b", "donor_site": "x",
+                  "acceptor_site": "y", "bridge_site": "br", "recipe": "dft", "ladder": ["dft"],
+                  "levels": {"barrier": "dft"},
+                  "four_point": {"reactant_at_reactant": "a.out", "reactant_at_product": "c.out",
+                                 "product_at_product": "a.out", "product_at_reactant": "c.out"}}],
+    "isomer_families": [{"name": "f", "states": ["a", "b"], "recipe": "dft"}],
+    "uncertainty": {"samples": 1000, "seed": 1},
+    "experiment": {"rates": [{"pathway": "p", "temperature_k": 298.15, "rate_per_s": 1e7, "error_per_s": 1e6,
+                              "method": "m", "source": "invented for the test"}],
+                   "intervalence_band": [{"pathway": "p", "nu_max_cm1": 9000.0, "fwhm_cm1": 4000.0,
+                                          "epsilon_max_m1_cm1": 500.0, "distance_angstrom": 5.0,
+                                          "source": "invented for the test"}]},
+}
+
+
+def _leaf_paths(d, path=()):
+    if isinstance(d, dict):
+        for k, v in d.items():
+            yield from _leaf_paths(v, path + (k,))
+    elif isinstance(d, list) and d and isinstance(d[0], dict):
+        for i, v in enumerate(d):
+            yield from _leaf_paths(v, path + (i,))
+    else:
+        yield path
+
+
+def _project_toml(doc: dict) -> str:
+    out = []
+    for k, v in doc.items():
+        for item in (v if isinstance(v, list) else [v]):
+            out.append(f"[[{k}]]" if isinstance(v, list) else f"[{k}]")
+            out += [f"{json.dumps(kk)} = {_toml_value(vv)}" for kk, vv in item.items()]
+    return "\n".join(out) + "\n"
+
+
+def _mutated(changes) -> str:
+    import copy
+
+    doc = copy.deepcopy(_BASE_PROJECT)
+    for path, value in changes:
+        d = doc
+        for k in path[:-1]:
+            d = d[k]
+        d[path[-1]] = value
+    return _project_toml(doc)
+
+
+@pytest.fixture(scope="module")
+def analysable(tmp_path_factory):
+    """A folder with four real NWChem 7.0 outputs and their records, read once."""
+    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
+    from dossier.reading import read
+
+    folder = tmp_path_factory.mktemp("analysable")
+    for name, rel in {"a.out": "dvb_gopt_ks.out", "b.out": "dvb_ir.out", "c.out": "dvb_un_sp_ks.out",
+                      "d.out": "dvb_td.out"}.items():
+        shutil.copyfile(fixture_path(f"NWChem/basicNWChem7.0/{rel}"), folder / name)
+    records = {p.resolve(): read(p, use_cache=False) for p in folder.glob("*.out")}
+    return folder, records
+
+
+def _analyse_only_dossier_errors(folder: Path, records: dict, text: str) -> None:
+    from dossier.analysis import analyse
+    from dossier.project import bind, load_manifest
+
+    path = folder / "dossier.toml"
+    path.write_text(text)
+    try:
+        analyse(bind(load_manifest(path), records))
+    except DossierError as exc:
+        assert "\n" not in str(exc), str(exc)
+
+
+def test_the_base_project_analyses(analysable):
+    from dossier.analysis import analyse
+    from dossier.project import bind, load_manifest
+
+    folder, records = analysable
+    (folder / "dossier.toml").write_text(_project_toml(_BASE_PROJECT))
+    data = analyse(bind(load_manifest(folder / "dossier.toml"), records))
+    assert data["pathways"] and data["pathways"][0]["name"] == "p"  # so each mutation starts from a working project
+
+
+@pytest.mark.parametrize("changes", [
+    [(("project", "temperatures_k"), [1e-300])],
+    [(("experiment", "rates", 0, "temperature_k"), 3.35e-19)],
+    [(("experiment", "rates", 0, "rate_per_s"), 1.3e218)],
+], ids=["project-temperature-1e-300K", "measured-at-3e-19K", "measured-rate-1e218"])
+def test_absurd_numbers_are_manifest_errors_not_crashes(analysable, changes):
+    folder, records = analysable
+    _analyse_only_dossier_errors(folder, records, _mutated(changes))
+
+
+_MUTATION_VALUES = st.one_of(
+    st.integers(-5, 10**6), st.floats(allow_nan=True, allow_infinity=True), st.booleans(),
+    st.sampled_from(["a", "b", "t", "x", "y", "dft", "sp", "a.out", "c.out", "d.out", "", "minimum", "none", "eV"]),
+    st.lists(st.integers(-2, 40), max_size=4), st.lists(st.sampled_from(["a", "b", "t", "dft", "sp"]), max_size=3),
+    st.just({}), st.just([]))
+
+
+@pytest.mark.slow
+@settings(max_examples=300, deadline=None, database=None, derandomize=True,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(changes=st.lists(st.tuples(st.sampled_from(list(_leaf_paths(_BASE_PROJECT))), _MUTATION_VALUES), max_size=2))
+def test_fuzz_a_valid_project_with_changed_values_analyses_or_raises_a_dossier_error(analysable, changes):
+    folder, records = analysable
+    _analyse_only_dossier_errors(folder, records, _mutated(changes))
