@@ -355,10 +355,10 @@ def spectrum_figure(states: list[dict]) -> Figure:
             nm_lo, nm_hi = units.NM_CM1 / hi, units.NM_CM1 / lo
             ticks = [t for t in (100, 150, 200, 250, 300, 400, 500, 700, 1000, 1500, 2000, 3000, 5000, 10000)
                      if nm_lo <= t <= nm_hi]
-            # keep ticks at least ~8 % of the axis apart (they crowd at long wavelength)
+            # keep ticks at least ~12 % of the axis apart (they crowd at long wavelength)
             kept: list[float] = []
             for t in sorted(ticks):
-                if all(abs(units.NM_CM1 / t - units.NM_CM1 / k) > 0.08 * (hi - lo) for k in kept):
+                if all(abs(units.NM_CM1 / t - units.NM_CM1 / k) > 0.12 * (hi - lo) for k in kept):
                     kept.append(t)
             sec.set_xticks(kept, [f"{t:g}" for t in kept])
     axes[-1].set_xlim(lo, hi)
