@@ -3,7 +3,7 @@
 - Spin populations: cclib 1.8.1 returns none, although the property module prints
   "Atomic spin population" (and "Total gross population on atoms", from which the Mulliken
   charges are Z - population). Both are read here from the last such block.
-- <S^2> ("<S2> =      0.7778 (Exact =     0.7500)").
+- <S^2> ("<S2> =      0.7778 (Exact =     0.7500)"; SCF-module UHF: "S^2 =      1.9410").
 - CCSD and CCSD(T) total energies at the printed 15 decimals, one per level.
 - Frequencies: NWChem lists 3N rows including six (five) zero translation/rotation rows;
   they are removed by the common 3N-6 rule in dossier.reading.build (smallest |v| first).
@@ -74,6 +74,9 @@ def apply(calc, text: str, data) -> None:
         calc.level.dispersion = f"{disp.group(1)}(BJ)" if disp.group(2) else disp.group(1)
 
     s2 = last_float(r"<S2>\s*=\s*(" + FLOAT + r")\s*\(Exact", text)
+    if s2 is None:
+        # SCF-module UHF (e.g. the reference of an MP2 job): "Sz(Sz+1) = 0.7500" then "S^2 = 1.9410"
+        s2 = last_float(r"Sz\(Sz\+1\)\s*=\s*" + FLOAT + r"\s*\n\s*S\^2\s*=\s*(" + FLOAT + ")", text)
     if s2 is not None:
         calc.s2 = s2
 
