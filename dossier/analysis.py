@@ -88,6 +88,11 @@ class _Unavailable(Exception):
     """A quantity cannot be computed from the project's files (the reason is reported, not raised)."""
 
 
+
+def _rate_ratio(rate_per_s: float, reference_per_s: float) -> float | None:
+    """k / k_ref, or None where the reference rate underflows to zero (very high barrier / low T)."""
+    return rate_per_s / reference_per_s if reference_per_s > 0 else None
+
 def _kj(hartree: float) -> float:
     return float(hartree) * u.HARTREE_KJ_MOL
 
@@ -648,7 +653,7 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
         params = {"coupling_cm1": hab, "reorganization_energy_kj_mol": lam, "delta_g0_kj_mol": dg0, "temperature_k": t}
         k = marcus.marcus_nonadiabatic_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": k / eyring(g, t),
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": _rate_ratio(k, eyring(g, t)),
                 "transmission_coefficient_meaning": "k / [(k_B T/h) exp(-dG*/RT)]: the effective nonadiabatic factor "
                                                     "(above 1 only where the formula is outside its range)",
                 "validity": validity, "parameters": params, "inputs": inputs}
@@ -661,7 +666,7 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
                   "huang_rhys": m["huang_rhys"], "n_max": MLJ_N_MAX}
         k = marcus.mlj_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": k / eyring(g, t),
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": _rate_ratio(k, eyring(g, t)),
                 "transmission_coefficient_meaning": "k / [(k_B T/h) exp(-dG*/RT)] with the classical Marcus "
                                                     "barrier of the total lambda",
                 "validity": validity, "parameters": params, "inputs": inputs}

@@ -25,6 +25,7 @@ import numpy as np
 from dossier import marcus
 from dossier import statements as st
 from dossier.errors import ManifestError
+from dossier.project import TEMPERATURE_RANGE_K
 from dossier.uncertainty import LN10, UncertaintyModel
 from dossier.units import CM1_KJ_MOL, PI, rt_kj_mol
 
@@ -32,6 +33,10 @@ WhereOf = Callable[..., str]
 
 #: Computed and measured temperatures closer than this are the same temperature (K).
 SAME_TEMPERATURE_K = 0.5
+
+#: No measured first-order rate exceeds ~1e15 s-1 (electronic dephasing times are femtoseconds;
+#: common practice, no source); a larger number is a unit mistake.
+MAX_RATE_PER_S = 1.0e16
 
 # name -> (required keys, optional keys); every number must be finite, most positive
 _TABLES: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
@@ -143,6 +148,12 @@ def validate_experiment(
                     if key not in _MAY_BE_NEGATIVE and (value < 0 or (value == 0 and key not in _MAY_BE_ZERO)):
                         fail(f"{label}: {key} must be {'>= 0' if key in _MAY_BE_ZERO else '> 0'}, got {value!r}",
                              name, i, key)
+                    if key == "temperature_k" and not TEMPERATURE_RANGE_K[0] <= value <= TEMPERATURE_RANGE_K[1]:
+                        fail(f"{label}: temperature_k must be from {TEMPERATURE_RANGE_K[0]:g} to "
+                             f"{TEMPERATURE_RANGE_K[1]:g} K, got {value!r}", name, i, key)
+                    if key.endswith("_per_s") and value > MAX_RATE_PER_S:
+                        fail(f"{label}: {key} = {value!r} is beyond any molecular rate "
+                             f"(at most {MAX_RATE_PER_S:g} s-1); check the unit", name, i, key)
                     clean[key] = float(value)
             if "pathway" in clean and known_pathways is not None and clean["pathway"] not in known_pathways:
                 fail(f"{label}: pathway '{clean['pathway']}' is not defined under [[pathways]]", name, i, "pathway")

@@ -29,6 +29,10 @@ from typing import Any
 from dossier.errors import ManifestError, ReadError
 from dossier.records import Calculation
 
+#: Temperatures the rate and thermochemistry models are used at (kelvin). Outside this range a
+#: number is a typo, not an experiment (common practice, no source).
+TEMPERATURE_RANGE_K = (1.0, 5000.0)
+
 ROLES = ("minimum", "transition-state")
 ENERGY_UNITS = ("kJ/mol", "kcal/mol", "eV")
 STANDARD_STATES = ("1M", "1bar", "1atm")
@@ -593,10 +597,11 @@ def load_manifest(path: str | Path) -> Manifest:
             raise v.fail(("project", "temperatures_k"),
                          f"project.temperatures_k must be a non-empty list of numbers in kelvin, e.g. [298.15]; "
                          f"got {_type_word(t)} {t!r}")
+        low, high = TEMPERATURE_RANGE_K
         for i, x in enumerate(t):
-            if not x > 0:
+            if not low <= x <= high:
                 raise v.fail(("project", "temperatures_k", i),
-                             f"project.temperatures_k has {x}; temperatures are in kelvin and must be > 0")
+                             f"project.temperatures_k has {x}; temperatures are in kelvin, from {low:g} to {high:g}")
         if len(set(t)) != len(t):
             raise v.fail(("project", "temperatures_k"), "project.temperatures_k lists a temperature twice; remove the repeat")
         temps = [float(x) for x in t]
@@ -790,8 +795,9 @@ def load_manifest(path: str | Path) -> Manifest:
                          f"pathway '{name}': transition_state '{ts}' is also its reactant or product; "
                          "name a separate transition-state state")
         if reactant == product:
-            warnings.append(f"{display}:{loc.line_of(key + ('product',))}: pathway '{name}' has the same state "
-                            f"'{reactant}' as reactant and product (a degenerate exchange computed once)")
+            raise v.fail(key + ("product",),
+                         f"pathway '{name}': product '{product}' is also its reactant; for a symmetric exchange "
+                         "name the mirror-image minimum as a state of its own")
         donor = site_ref(pw, key + ("donor_site",))
         acceptor = site_ref(pw, key + ("acceptor_site",))
         bridge = site_ref(pw, key + ("bridge_site",))

@@ -52,14 +52,12 @@ def ratio_statement(log10_ratio: float) -> str:
     r = round(log10_ratio, LOG_DIGITS)
     if abs(r) < 0.05:
         return "the computed rate equals the measured one to within 0.1 decade"
-    factor = 10.0 ** abs(r)
-    if factor < 100:
-        shown = f"{factor:.2g}"
-    elif factor < 1e4:
-        shown = f"{factor:.0f}"
-    else:
-        exponent = math.floor(math.log10(factor))
-        mantissa = factor / 10**exponent
+    if abs(r) < 4:
+        factor = 10.0 ** abs(r)
+        shown = f"{factor:.2g}" if factor < 100 else f"{factor:.0f}"
+    else:  # from the logarithm itself: 10 ** |r| may not fit a float
+        exponent = math.floor(abs(r))
+        mantissa = 10.0 ** (abs(r) - exponent)
         if round(mantissa, 1) >= 10.0:
             mantissa, exponent = mantissa / 10, exponent + 1
         shown = f"{mantissa:.1f} x 10^{exponent}"
