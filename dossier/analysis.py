@@ -88,10 +88,10 @@ class _Unavailable(Exception):
     """A quantity cannot be computed from the project's files (the reason is reported, not raised)."""
 
 
-
 def _rate_ratio(rate_per_s: float, reference_per_s: float) -> float | None:
     """k / k_ref, or None where the reference rate underflows to zero (very high barrier / low T)."""
     return rate_per_s / reference_per_s if reference_per_s > 0 else None
+
 
 def _kj(hartree: float) -> float:
     return float(hartree) * u.HARTREE_KJ_MOL
