@@ -2,10 +2,10 @@
 from __future__ import annotations
 
 import json
-import math
 import sys
 from pathlib import Path
 
+from dossier.commands._json import json_safe
 from dossier.errors import ReadError
 
 HELP = "read quantum-chemistry output files (or folders of them) and show what was found"
@@ -68,17 +68,6 @@ def _table(records) -> str:
     return "\n".join(lines)
 
 
-def _clean(obj):
-    """JSON has no NaN/Infinity: write null."""
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    return obj
-
-
 def run(args) -> int:
     from dossier.reading import read_many
     from dossier.reading.parallel import TerminalProgress
@@ -109,7 +98,7 @@ def run(args) -> int:
         try:
             out = json.dumps(data, allow_nan=False)
         except ValueError:  # a NaN somewhere: JSON has none, write null
-            out = json.dumps(_clean(data), allow_nan=False)
+            out = json.dumps(json_safe(data), allow_nan=False)
         sys.stdout.write(out + "\n")
     elif records:
         print(_table(records))

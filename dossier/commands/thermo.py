@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 from dossier import units
+from dossier.commands._json import json_safe
 from dossier.errors import DossierError
 
 HELP = "compute ideal-gas thermochemistry (RRHO or quasi-RRHO) from frequency jobs, the same way for every program"
@@ -67,16 +68,6 @@ def add_arguments(parser) -> None:
                         help="also print translational/rotational/vibrational/electronic contributions")
     parser.add_argument("--json", action="store_true", help="print one JSON list (one entry per file and temperature)")
     parser.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
-
-
-def _clean(obj):
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    return obj
 
 
 def _entry(calc, result) -> dict:
@@ -195,7 +186,7 @@ def run(args) -> int:
             failed += 1
             print(f"dossier: {exc}", file=sys.stderr)
     if args.json:
-        json.dump(_clean(entries), sys.stdout, indent=1)
+        json.dump(json_safe(entries), sys.stdout, indent=1)
         sys.stdout.write("\n")
     elif entries:
         print(_table(entries))
