@@ -169,13 +169,24 @@ def _state_by_name(data: dict) -> dict[str, dict]:
     return {s["name"]: s for s in data.get("states", [])}
 
 
+def _model_in_range(pw: dict, model: str) -> bool:
+    """True when no rate of this model is flagged as outside its formula's range."""
+    rates = [r for r in pw.get("rates", []) if r.get("model") == model]
+    return bool(rates) and all(
+        (r.get("validity") or {}).get("valid", True) and (r.get("validity") or {}).get("nonadiabatic_regime", True)
+        for r in rates)
+
+
 def _headline_model(pw: dict) -> str | None:
+    """The model the plain-words summary quotes: the first one (the experiment's comparison model
+    first, then the analysis order) whose formula is within its range at every temperature."""
     exp = (pw.get("experiment") or {}).get("rates") or []
-    for e in exp:
-        if e.get("computed_model"):
-            return e["computed_model"]
-    models = [r.get("model") for r in pw.get("rates", [])]
-    return models[0] if models else None
+    candidates = [e["computed_model"] for e in exp if e.get("computed_model")]
+    candidates += [r.get("model") for r in pw.get("rates", []) if r.get("model")]
+    for model in candidates:
+        if _model_in_range(pw, model):
+            return model
+    return candidates[0] if candidates else None
 
 
 def _where_electron(state: dict | None, scheme: str | None) -> dict:

@@ -260,3 +260,19 @@ def test_command_exits_0_with_check_errors_and_2_on_bad_input(project, tmp_path,
         assert bad.returncode == 2, (args, bad.stderr)
         lines = bad.stderr.strip().splitlines()
         assert lines[-1].startswith("dossier: ") and "Traceback" not in bad.stderr
+
+
+@pytest.mark.slow
+def test_demo_summary_quotes_a_rate_model_within_its_range(demo_build):
+    """The demo's TST barrier is negative and its golden-rule Marcus rate adiabatic (both flagged by the
+    analysis); the plain-words summary must quote a model whose formula holds, not the flagged ones."""
+    from dossier.render import summary_view
+
+    _, result = demo_build
+    for entry in summary_view(result.data):
+        quoted = [r for r in entry["pathway"]["rates"] if r["model"] == entry["model"]]
+        assert quoted
+        for rate in quoted:
+            validity = rate.get("validity") or {}
+            assert validity.get("valid", True) and validity.get("nonadiabatic_regime", True), rate["model"]
+        assert f"({entry['model']})" in (result.out_dir / "dossier.html").read_text()
