@@ -18,6 +18,7 @@ from dossier.project import Pathway, Project, Recipe, Settings, State
 from dossier.records import Calculation, ExcitedState, LevelOfTheory, RunStatus, Source, Vibrations
 
 from conftest import DEMO
+from dinitro_geometry import dinitrobenzene
 
 HARTREE_KJ_MOL = C.physical_constants["Hartree energy"][0] * C.N_A / 1000  # CODATA via scipy
 CM1_KJ_MOL = C.h * C.c * 100 * C.N_A / 1000
@@ -27,26 +28,9 @@ CM1_KJ_MOL = C.h * C.c * 100 * C.N_A / 1000
 # a synthetic symmetric dinitroarene radical anion (numbers invented for the test)
 # ---------------------------------------------------------------------------------------------
 def _skeleton(reduced):
-    ring = [(1.39 * math.cos(math.radians(60 * k)), 1.39 * math.sin(math.radians(60 * k)), 0.0) for k in range(6)]
-    elements, coords = ["C"] * 6, list(ring)
-    sites = {"bridge": list(range(6))}
-    for name, k in (("nitro_a", 0), ("nitro_b", 2)):
-        cn, no = (1.40, 1.27) if name == reduced else ((1.435, 1.245) if reduced is None else (1.47, 1.22))
-        ux, uy = math.cos(math.radians(60 * k)), math.sin(math.radians(60 * k))
-        n = (ring[k][0] + cn * ux, ring[k][1] + cn * uy, 0.0)
-        idx = len(elements)
-        elements.append("N")
-        coords.append(n)
-        for sign in (1, -1):
-            ang = math.radians(60 * k + sign * 62)
-            coords.append((n[0] + no * math.cos(ang), n[1] + no * math.sin(ang), 0.0))
-            elements.append("O")
-        sites[name] = [idx, idx + 1, idx + 2]
-    for k in (1, 3, 4, 5):
-        ux, uy = math.cos(math.radians(60 * k)), math.sin(math.radians(60 * k))
-        coords.append((ring[k][0] + 1.08 * ux, ring[k][1] + 1.08 * uy, 0.0))
-        elements.append("H")
-    return elements, [list(c) for c in coords], sites
+    reduced_cn_no, neutral_cn_no, shared_cn_no = (1.40, 1.27), (1.47, 1.22), (1.435, 1.245)
+    return dinitrobenzene({name: reduced_cn_no if name == reduced else (shared_cn_no if reduced is None else neutral_cn_no)
+                           for name in ("nitro_a", "nitro_b")})
 
 
 def _rec(path, elements, coords, energy, level=None, **kw):

@@ -1,13 +1,13 @@
 """Localization indicators against outside references (each named beside its check)."""
 from __future__ import annotations
 
-import math
 
 import numpy as np
 import pytest
 
 from dossier import localization as loc
 from dossier.records import Calculation, Orbitals, Source, Vibrations
+from dinitro_geometry import dinitrobenzene
 
 
 def _calc(elements, coords, **kw) -> Calculation:
@@ -16,33 +16,8 @@ def _calc(elements, coords, **kw) -> Calculation:
 
 
 def _dinitrobenzene(reduced: str | None):
-    """Planar 1,3-dinitrobenzene skeleton built from bond lengths (angstrom).
-
-    Nitro geometry from memory: neutral nitrobenzene C-N 1.47, N-O 1.22; in the radical anion the
-    nitro group carrying the electron has C-N about 1.40 and N-O about 1.27 (quinoidal).
-    """
-    ring = [(1.39 * math.cos(math.radians(60 * k)), 1.39 * math.sin(math.radians(60 * k)), 0.0) for k in range(6)]
-    elements = ["C"] * 6
-    coords = list(ring)
-    sites = {"bridge": list(range(6))}
-    for name, k in (("nitro_a", 0), ("nitro_b", 2)):
-        on = name == reduced
-        cn, no = (1.40, 1.27) if on else (1.47, 1.22)
-        ux, uy = math.cos(math.radians(60 * k)), math.sin(math.radians(60 * k))
-        n = (ring[k][0] + cn * ux, ring[k][1] + cn * uy, 0.0)
-        idx = len(elements)
-        elements.append("N")
-        coords.append(n)
-        for sign in (1, -1):
-            ang = math.radians(60 * k + sign * 62)
-            coords.append((n[0] + no * math.cos(ang), n[1] + no * math.sin(ang), 0.0))
-            elements.append("O")
-        sites[name] = [idx, idx + 1, idx + 2]
-    for k in (1, 3, 4, 5):  # ring hydrogens, C-H 1.08
-        ux, uy = math.cos(math.radians(60 * k)), math.sin(math.radians(60 * k))
-        coords.append((ring[k][0] + 1.08 * ux, ring[k][1] + 1.08 * uy, 0.0))
-        elements.append("H")
-    return elements, coords, sites
+    """1,3-dinitrobenzene with the extra electron on `reduced` (None: both nitro groups neutral)."""
+    return dinitrobenzene({name: (1.40, 1.27) if name == reduced else (1.47, 1.22) for name in ("nitro_a", "nitro_b")})
 
 
 def test_bond_detection_matches_ase_neighbour_list():
