@@ -1,7 +1,6 @@
 """Localization indicators against outside references (each named beside its check)."""
 from __future__ import annotations
 
-
 import numpy as np
 import pytest
 
