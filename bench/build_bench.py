@@ -124,7 +124,7 @@ def fixture_project(folder: Path) -> Path:
 # -- one build in its own process ---------------------------------------------------------------
 
 def one_build(manifest: str, out: str, formats: str, use_cache: bool) -> dict:
-    from dossier.build import build_dossier
+    from dossier.report.build import build_dossier
 
     t0 = time.perf_counter()
     result = build_dossier(manifest, out, formats=formats.split(","), use_cache=use_cache)

@@ -68,7 +68,7 @@ def make_project(folder: Path, n_files: int) -> Path:
 _CHILD = textwrap.dedent("""
     import json, resource, sys, time
     manifest, out, formats, jobs = sys.argv[1], sys.argv[2], sys.argv[3].split(","), json.loads(sys.argv[4])
-    from dossier.build import build_dossier
+    from dossier.report.build import build_dossier
     from dossier.errors import DossierError
     start = time.perf_counter()
     try:

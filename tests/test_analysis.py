@@ -12,9 +12,10 @@ import numpy as np
 import pytest
 from scipy import constants as C
 
-from dossier import analysis, marcus
+from dossier.analysis import assemble as analysis
+from dossier.science import marcus
 from dossier import units as u
-from dossier.project import Pathway, Project, Recipe, Settings, State
+from dossier.project.model import Pathway, Project, Recipe, Settings, State
 from dossier.records import Calculation, ExcitedState, LevelOfTheory, RunStatus, Source, Vibrations
 
 from conftest import DEMO
@@ -152,7 +153,7 @@ def test_contract_keys_of_states_and_pathways(synthetic):
 def test_every_rate_recomputes_from_its_own_parameters(synthetic):
     n = 0
     for r in _all_rates(synthetic):
-        fn = getattr(marcus, (r.get("function") or "dossier.marcus.marcus_nonadiabatic_rate_per_s").split(".")[-1])
+        fn = getattr(marcus, (r.get("function") or "dossier.science.marcus.marcus_nonadiabatic_rate_per_s").split(".")[-1])
         assert fn(**r["parameters"]) == pytest.approx(r["rate_per_s"], rel=1e-12)
         n += 1
     assert n > 20
@@ -256,7 +257,7 @@ def _demo_manifest():
 @pytest.fixture(scope="module")
 def demo():
     path, raw = _demo_manifest()
-    from dossier.project import load_project
+    from dossier.project.model import load_project
 
     try:
         project = load_project(path)

@@ -12,7 +12,8 @@ from pathlib import Path
 import pytest
 
 from conftest import DEMO, ROOT
-from dossier import build, render
+from dossier.report import build
+from dossier.report import render
 from dossier.errors import BuildError, DossierError
 
 
@@ -42,7 +43,7 @@ def demo_build(tmp_path_factory):
 
 @pytest.mark.slow
 def test_demo_writes_every_output_and_names_every_source_with_its_hash(demo_build):
-    from dossier.project import load_manifest
+    from dossier.project.model import load_manifest
 
     manifest, result = demo_build
     names = {"dossier.html", "dossier.pdf", "dossier.json", "energies.csv", "populations.csv", "parameters.csv",
@@ -114,8 +115,8 @@ def analysed(tmp_path_factory, shared_cache):
     """The real analysis of the fixture project, computed once; tests of the folder handling reuse it."""
     from render_fixtures import write_fixture_manifest
 
-    from dossier.analysis import analyse
-    from dossier.project import load_project
+    from dossier.analysis.assemble import analyse
+    from dossier.project.model import load_project
 
     old = os.environ.get("DOSSIER_CACHE_DIR")
     os.environ["DOSSIER_CACHE_DIR"] = str(shared_cache)
@@ -133,17 +134,17 @@ def quick(analysed, monkeypatch):
     """build_dossier with the analysis step answered from the module's real analysis."""
     import copy
 
-    import dossier.analysis
+    import dossier.analysis.assemble
 
-    monkeypatch.setattr(dossier.analysis, "analyse", lambda project, **kw: copy.deepcopy(analysed))
+    monkeypatch.setattr(dossier.analysis.assemble, "analyse", lambda project, **kw: copy.deepcopy(analysed))
 
 
 @pytest.fixture
 def no_figures(monkeypatch):
     """Folder-handling tests need the HTML/PDF steps, not the drawings (tests/test_figures.py has those)."""
-    import dossier.figures
+    import dossier.report.figures
 
-    monkeypatch.setattr(dossier.figures, "make_figures", lambda data, **kw: [])
+    monkeypatch.setattr(dossier.report.figures, "make_figures", lambda data, **kw: [])
 
 
 def test_rebuild_after_a_manifest_edit_reads_no_file_again(project, tmp_path, monkeypatch):
@@ -266,7 +267,7 @@ def test_command_exits_0_with_check_errors_and_2_on_bad_input(project, tmp_path,
 def test_demo_summary_quotes_a_rate_model_within_its_range(demo_build):
     """The demo's TST barrier is negative and its golden-rule Marcus rate adiabatic (both flagged by the
     analysis); the plain-words summary must quote a model whose formula holds, not the flagged ones."""
-    from dossier.render import summary_view
+    from dossier.report.render import summary_view
 
     _, result = demo_build
     for entry in summary_view(result.data):

@@ -1,4 +1,4 @@
-"""dossier.checks on small projects built from real third-party outputs (cclib's test data,
+"""dossier.project.checks on small projects built from real third-party outputs (cclib's test data,
 BSD-3, in ../shared/fixtures/qc-logs) and, when present, on the demo study.
 
 Each expectation is checked against something outside the checker: the log text itself
@@ -16,8 +16,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from dossier import checks
-from dossier.project import bind, load_manifest, load_project
+from dossier.project import checks
+from dossier.project.model import bind, load_manifest, load_project
 
 from conftest import demo_path, fixture_path
 

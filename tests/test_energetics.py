@@ -1,4 +1,4 @@
-"""dossier.energetics: relative energies, profiles and Boltzmann populations.
+"""dossier.science.energetics: relative energies, profiles and Boltzmann populations.
 
 Outside references: CODATA via scipy.constants (unit conversions, R), hand calculations
 written out beside each check, and ASE 3.29's IdealGasThermo for a composite recipe built on
@@ -12,7 +12,7 @@ import pytest
 from scipy import constants as sc
 
 from dossier import units
-from dossier.energetics import (
+from dossier.science.energetics import (
     EnergeticsError,
     StateEnergies,
     boltzmann_populations,
@@ -128,7 +128,7 @@ def test_errors_are_one_line():
 
 
 def test_from_thermo_composite_matches_ase_on_fixture():
-    # Composite recipe: electronic energy from one source, G correction from dossier.thermo on
+    # Composite recipe: electronic energy from one source, G correction from dossier.science.thermo on
     # a real frequency job; the correction checked against ASE 3.29 IdealGasThermo.
     import warnings
 
@@ -137,7 +137,7 @@ def test_from_thermo_composite_matches_ase_on_fixture():
     from ase.thermochemistry import IdealGasThermo
     from cclib.parser.utils import PeriodicTable
 
-    from dossier.thermo import atomic_masses_amu, rrho
+    from dossier.science.thermo import atomic_masses_amu, rrho
     from tests.conftest import fixture_path
 
     with warnings.catch_warnings():

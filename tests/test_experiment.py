@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 from scipy import constants as c
 
-from dossier import experiment as ex
-from dossier import uncertainty as unc
+from dossier.science import experiment as ex
+from dossier.science import uncertainty as unc
 from dossier.errors import ManifestError
 
 T = 298.15
@@ -99,7 +99,7 @@ def test_nmr_entry_with_error_propagation():
 
 
 def test_hush_band_analysis():
-    marcus = pytest.importorskip("dossier.marcus")
+    marcus = pytest.importorskip("dossier.science.marcus")
     band = {"pathway": "a_to_b", "nu_max_cm1": 9500.0, "fwhm_cm1": 4800.0, "epsilon_max_m1_cm1": 800.0,
             "distance_angstrom": 4.9, "source": "invented", "nu_max_error_cm1": 100.0, "fwhm_error_cm1": 240.0,
             "epsilon_error_m1_cm1": 80.0, "distance_error_angstrom": 0.0}
@@ -297,7 +297,7 @@ source = "invented"
 ])
 def test_errors_name_the_manifest_line(tmp_path, unc_line, exp_line, marked, fragment):
     # the real loader (dossier.project) locates lines; our validators must use it
-    project = pytest.importorskip("dossier.project")
+    project = pytest.importorskip("dossier.project.model")
     for f in ("a.out", "b.out"):
         (tmp_path / f).write_text("placeholder output\n")
     path = tmp_path / "dossier.toml"

@@ -11,7 +11,7 @@ import re
 import pytest
 from scipy import constants
 
-from dossier import exports
+from dossier.report import exports
 from dossier.errors import BuildError
 
 

@@ -8,7 +8,7 @@ import pytest
 from scipy import constants, integrate
 
 from conftest import fixture_path
-from dossier import figures
+from dossier.report import figures
 
 
 @pytest.fixture(scope="module")

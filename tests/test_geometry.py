@@ -1,4 +1,4 @@
-"""dossier.geometry against outside references: scipy's Rotation.align_vectors and ASE's
+"""dossier.science.geometry against outside references: scipy's Rotation.align_vectors and ASE's
 minimize_rotation_and_translation (both implement the same least-squares superposition)."""
 from __future__ import annotations
 
@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy.spatial.transform import Rotation
 
-from dossier import geometry
+from dossier.science import geometry
 
 RNG = np.random.default_rng(7)
 

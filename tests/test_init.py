@@ -12,9 +12,9 @@ import tomllib
 
 import pytest
 
-from dossier import checks
+from dossier.project import checks
 from dossier.cli import main
-from dossier.project import load_manifest, load_project
+from dossier.project.model import load_manifest, load_project
 
 from conftest import demo_path, fixture_path
 

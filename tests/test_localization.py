@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from dossier import localization as loc
+from dossier.science import localization as loc
 from dossier.records import Calculation, Orbitals, Source, Vibrations
 from dinitro_geometry import dinitrobenzene
 

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from scipy import constants as C
 
-from dossier import marcus as m
+from dossier.science import marcus as m
 from dossier import units as u
 
 
@@ -284,7 +284,7 @@ def test_mode_projection_on_real_nwchem_modes():
     # harmonic energy (1/2) omega^2 Q^2 into that mode and (almost) none into the others.
     from conftest import fixture_path
     from dossier.reading import read
-    from dossier.thermo import atomic_masses_amu
+    from dossier.science.thermo import atomic_masses_amu
 
     calc = read(fixture_path("NWChem/basicNWChem7.0/dvb_ir.out"), use_cache=False)
     w = calc.vibrations.wavenumbers_cm1

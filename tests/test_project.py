@@ -1,4 +1,4 @@
-"""dossier.project: manifest validation (one line naming the manifest line), bind, load_project.
+"""dossier.project.model: manifest validation (one line naming the manifest line), bind, load_project.
 
 Line numbers are not typed in: each case marks the offending line with a `# <-` comment and
 the test finds that line in the text it wrote. Records for bind come from reading real
@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 
 from dossier.errors import ManifestError
-from dossier.project import DEFAULT_RECIPE, bind, load_manifest, load_project
+from dossier.project.model import DEFAULT_RECIPE, bind, load_manifest, load_project
 
 from conftest import fixture_path
 
@@ -265,7 +265,7 @@ def test_documented_example_loads(tmp_path):
 
 
 def test_documented_finding_codes_match_the_checker():
-    from dossier.checks import CODES
+    from dossier.project.checks import CODES
 
     doc = (Path(__file__).resolve().parent.parent / "docs" / "manifest.md").read_text(encoding="utf-8")
     table = set(re.findall(r"^\| `([A-Z0-9-]+)` \|", doc, re.M))
@@ -274,7 +274,7 @@ def test_documented_finding_codes_match_the_checker():
 
 def test_line_locator_survives_strings_comments_and_multiline_values():
     # The line of each key, found independently by searching the text for a unique marker.
-    from dossier.project import _Locator
+    from dossier.project.model import _Locator
 
     text = textwrap.dedent('''\
         a = "x # ] [ {"   # comment with = sign

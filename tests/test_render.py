@@ -8,7 +8,8 @@ from pathlib import Path
 import pytest
 
 from conftest import require_program
-from dossier import figures, render
+from dossier.report import figures
+from dossier.report import render
 from dossier.errors import BuildError
 
 

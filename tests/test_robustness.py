@@ -176,9 +176,9 @@ def test_cli_read_of_one_unreadable_file_is_exactly_one_line(broken, name):
 def test_every_broken_file_in_a_project_is_a_manifest_error_or_a_finding(broken, tmp_path):
     """Each broken variant named as a state's geometry and frequency job: load_project gives a one-line
     ManifestError naming the manifest line, or a Project whose checks report the file."""
-    pytest.importorskip("dossier.checks", reason="dossier.checks not present yet")
-    from dossier.checks import run_checks
-    from dossier.project import load_project
+    pytest.importorskip("dossier.project.checks", reason="dossier.project.checks not present yet")
+    from dossier.project.checks import run_checks
+    from dossier.project.model import load_project
 
     folder, variants, before = broken
     good = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out")
@@ -218,9 +218,9 @@ def test_build_of_a_project_with_a_broken_file_is_a_dossier_or_a_one_line_error(
     """A broken file as the transition state of a pathway (with sites) or as a member of an isomer
     family: the build writes a dossier (the checks report the file) or fails with a DossierError
     that names the manifest or the file, and leaves no output folder behind."""
-    pytest.importorskip("dossier.build", reason="dossier.build not present yet")
-    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
-    from dossier.build import build_dossier
+    pytest.importorskip("dossier.report.build", reason="dossier.report.build not present yet")
+    pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
+    from dossier.report.build import build_dossier
 
     folder, variants, before = broken
     good = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out")
@@ -363,8 +363,8 @@ def _broken_text(name: str) -> str:
 
 
 def test_the_good_manifest_loads(tmp_path):
-    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
-    from dossier.project import load_manifest
+    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
+    from dossier.project.model import load_manifest
 
     manifest = load_manifest(_manifest_project(tmp_path, GOOD))
     assert set(manifest.states) == {"a", "b"}  # so each broken variant differs from a loadable one
@@ -372,8 +372,8 @@ def test_the_good_manifest_loads(tmp_path):
 
 @pytest.mark.parametrize("name", sorted(BROKEN_MANIFESTS))
 def test_broken_manifest_is_one_line_error_or_finding(name, tmp_path):
-    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
-    from dossier.project import load_manifest, load_project
+    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
+    from dossier.project.model import load_manifest, load_project
 
     manifest = _manifest_project(tmp_path / "p", _broken_text(name))
     before = _tree(tmp_path)
@@ -428,8 +428,8 @@ def test_cli_check_of_an_unopenable_manifest(case, tmp_path):
 
 
 def test_build_of_a_broken_manifest_leaves_no_output(tmp_path):
-    pytest.importorskip("dossier.build", reason="dossier.build not present yet")
-    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
+    pytest.importorskip("dossier.report.build", reason="dossier.report.build not present yet")
+    pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
     for name in ("unknown-state", "binary-output"):
         manifest = _manifest_project(tmp_path / name, _broken_text(name))
         out = tmp_path / f"{name}-out"
@@ -528,7 +528,7 @@ def _structured():
 
 @pytest.fixture(scope="module")
 def fuzz_dir(tmp_path_factory):
-    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
+    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
     folder = tmp_path_factory.mktemp("fuzz")
     (folder / "a.out").write_text("stand-in output file: the loader checks only that it exists\n")
     (folder / "b.out").write_text("another\n")
@@ -536,7 +536,7 @@ def fuzz_dir(tmp_path_factory):
 
 
 def _load_only_manifest_errors(folder: Path, text: str) -> None:
-    from dossier.project import load_manifest
+    from dossier.project.model import load_manifest
 
     path = folder / "dossier.toml"
     path.write_bytes(text.encode("utf-8", errors="replace"))
@@ -596,8 +596,8 @@ def _interrupt_build(manifest: Path, out: Path, sig: int, *, delay_s: float | No
 @pytest.fixture(scope="module")
 def built_demo(tmp_path_factory):
     """A small project of real NWChem outputs, built once with every format (so with a PDF step)."""
-    pytest.importorskip("dossier.build", reason="dossier.build not present yet")
-    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
+    pytest.importorskip("dossier.report.build", reason="dossier.report.build not present yet")
+    pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
     root = tmp_path_factory.mktemp("interrupt")
     manifest = _manifest_project(root / "study", GOOD)
     out = root / "dossier"
@@ -688,7 +688,7 @@ def _mutated(changes) -> str:
 @pytest.fixture(scope="module")
 def analysable(tmp_path_factory):
     """A folder with four real NWChem 7.0 outputs and their records, read once."""
-    pytest.importorskip("dossier.analysis", reason="dossier.analysis not present yet")
+    pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
     from dossier.reading import read
 
     folder = tmp_path_factory.mktemp("analysable")
@@ -700,8 +700,8 @@ def analysable(tmp_path_factory):
 
 
 def _analyse_only_dossier_errors(folder: Path, records: dict, text: str) -> None:
-    from dossier.analysis import analyse
-    from dossier.project import bind, load_manifest
+    from dossier.analysis.assemble import analyse
+    from dossier.project.model import bind, load_manifest
 
     path = folder / "dossier.toml"
     path.write_text(text)
@@ -712,8 +712,8 @@ def _analyse_only_dossier_errors(folder: Path, records: dict, text: str) -> None
 
 
 def test_the_base_project_analyses(analysable):
-    from dossier.analysis import analyse
-    from dossier.project import bind, load_manifest
+    from dossier.analysis.assemble import analyse
+    from dossier.project.model import bind, load_manifest
 
     folder, records = analysable
     (folder / "dossier.toml").write_text(_project_toml(_BASE_PROJECT))

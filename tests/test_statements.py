@@ -9,9 +9,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as s
 from scipy import constants as c
 
-from dossier import experiment as ex
-from dossier import statements as st
-from dossier import uncertainty as unc
+from dossier.science import experiment as ex
+from dossier.report import statements as st
+from dossier.science import uncertainty as unc
 
 RATE_RE = re.compile(
     r"^k\((?P<t>\d+) K\) = 10\^\((?P<m>-?\d+\.\d) (?:± (?P<pm>\d+\.\d)|\+(?P<up>\d+\.\d)/-(?P<down>\d+\.\d))\) s-1 \(68 %\)$")

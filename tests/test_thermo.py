@@ -1,4 +1,4 @@
-"""dossier.thermo against outside references.
+"""dossier.science.thermo against outside references.
 
 References used (named again beside each check):
 - ASE 3.29 `ase.thermochemistry` (PyPI): IdealGasThermo (RRHO), QuasiHarmonicThermo (Truhlar-style
@@ -19,7 +19,7 @@ import pytest
 from scipy import constants as sc
 
 from dossier import units
-from dossier.thermo import (
+from dossier.science.thermo import (
     GRIMME_BAV_KG_M2,
     ThermoError,
     detect_symmetry,
@@ -96,7 +96,7 @@ def test_rrho_matches_ase_ideal_gas_thermo(key, temperature_k, standard_state):
     elements, coords, waves, _ = load(key)
     ours = rrho(elements, coords, waves, 1, temperature_k, standard_state=standard_state)
     # Reference: ASE 3.29 IdealGasThermo, same wavenumbers, masses and symmetry number.
-    from dossier.thermo import atomic_masses_amu
+    from dossier.science.thermo import atomic_masses_amu
 
     ref = ase_ideal_gas(elements, coords, waves, ours.symmetry_number, 0, atomic_masses_amu(elements))
     pressure = ours.pressure_pa
@@ -118,7 +118,7 @@ def test_transition_state_imaginary_mode_left_out_like_ase():
     assert ours.n_imaginary == 1 and ours.imaginary_cm1 == [-abs(waves[0])]
     assert len(ours.wavenumbers_used_cm1) == len(waves) - 1
     # Reference: ASE IdealGasThermo with ignore_imag_modes=True drops the imaginary energy.
-    from dossier.thermo import atomic_masses_amu
+    from dossier.science.thermo import atomic_masses_amu
 
     atoms = Atoms(elements, positions=coords)
     atoms.set_masses(atomic_masses_amu(elements))
@@ -135,7 +135,7 @@ def test_transition_state_imaginary_mode_left_out_like_ase():
 def test_frequency_scale_factor_matches_ase_on_scaled_energies():
     elements, coords, waves, _ = load("psi4")
     ours = rrho(elements, coords, waves, 1, 298.15, frequency_scale=0.96)
-    from dossier.thermo import atomic_masses_amu
+    from dossier.science.thermo import atomic_masses_amu
 
     ref = ase_ideal_gas(elements, coords, [0.96 * w for w in waves], 2, 0, atomic_masses_amu(elements))
     assert abs(ours.zpe_hartree * KJ - ref.get_ZPE_correction() * EV_KJ) < 0.01
@@ -147,7 +147,7 @@ def test_open_shell_spin_degeneracy_matches_ase():
     # Doublet: S_el = R ln 2; reference ASE IdealGasThermo(spin=0.5).
     elements, coords, waves, _ = load("qchem_dvb")
     ours = rrho(elements, coords, waves, 2, 298.15)
-    from dossier.thermo import atomic_masses_amu
+    from dossier.science.thermo import atomic_masses_amu
 
     ref = ase_ideal_gas(elements, coords, waves, 2, 0.5, atomic_masses_amu(elements))
     s_ref = ref.get_entropy(298.15, ours.pressure_pa, verbose=False) * J_MOL_PER_EV_K
@@ -534,7 +534,7 @@ def test_low_temperature_freezes_modes_without_overflow():
     assert vib.energy_hartree == pytest.approx(r.zpe_hartree, abs=1e-15)
     assert math.isfinite(r.gibbs_correction_hartree)
     # C_v of one mode against the textbook Einstein function at x = 1: e / (e - 1)^2 = 0.920674 R
-    from dossier.thermo import harmonic_heat_capacity_j_mol_k
+    from dossier.science.thermo import harmonic_heat_capacity_j_mol_k
 
     nu = sc.k * 300.0 / (sc.h * sc.c * 100.0)  # the wavenumber with x = 1 at 300 K
     assert harmonic_heat_capacity_j_mol_k(nu, 300.0) == pytest.approx(0.920674 * sc.R, rel=1e-6)

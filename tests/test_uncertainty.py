@@ -9,7 +9,7 @@ import pytest
 from scipy import constants as c
 from scipy import stats
 
-from dossier import uncertainty as unc
+from dossier.science import uncertainty as unc
 from dossier.errors import ManifestError
 
 T = 298.15
@@ -212,7 +212,7 @@ def test_bad_uncertainty_table_is_one_line_manifest_error(table, fragment):
 
 def test_through_the_analysis_rate_functions():
     # dossier.marcus's Eyring must give the same interval as the textbook form above
-    marcus = pytest.importorskip("dossier.marcus")
+    marcus = pytest.importorskip("dossier.science.marcus")
     inputs = {"barrier_kj_mol": unc.Normal(35.0, 8.0)}
     a = unc.propagate(marcus.eyring_rate_per_s, inputs, fixed={"temperature_k": T}, seed=9)
     b = unc.propagate(eyring_textbook, inputs, fixed={"temperature_k": T}, seed=9)
@@ -253,7 +253,7 @@ def test_route_defaults_and_manifest_route_override():
 def test_mc_quantiles_through_marcus_equal_the_mapped_input_quantiles():
     # for a rate monotonic in its one uncertain input, quantiles map through exactly:
     # q_p(log10 k) = log10 k(dG0 at q_(1-p)) when k falls as dG0 rises (normal Marcus region)
-    marcus = pytest.importorskip("dossier.marcus")
+    marcus = pytest.importorskip("dossier.science.marcus")
     lam, mu, sigma = 100.0, 0.0, 8.0  # dG0 + lambda stays positive over +-6 sigma
     fixed = {"coupling_cm1": 200.0, "reorganization_energy_kj_mol": lam, "temperature_k": T}
     r = unc.propagate(marcus.marcus_nonadiabatic_rate_per_s, {"delta_g0_kj_mol": unc.Normal(mu, sigma)},

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import sys
 
-from dossier.archive import write_archive
+from dossier.archive.bundle import write_archive
 
 HELP = "pack the outputs, inputs, manifest, built dossier, checksums and environment into one .tar.gz"
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import sys
 
-from dossier.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats, stderr_progress
+from dossier.report.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats, stderr_progress
 
 HELP = "build the supporting-information dossier (HTML, PDF, JSON, CSV, XYZ, LaTeX, BibTeX) from a manifest"
 

@@ -28,7 +28,7 @@ from pathlib import Path
 
 import numpy as np
 
-from dossier import geometry
+from dossier.science import geometry
 from dossier.errors import DossierError, ManifestError, ReadError
 from dossier.records import Calculation
 

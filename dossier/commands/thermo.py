@@ -39,7 +39,7 @@ def _positive_int(text: str) -> int:
 
 
 def add_arguments(parser) -> None:
-    from dossier.thermo import QRRHO_METHODS, STANDARD_STATES
+    from dossier.science.thermo import QRRHO_METHODS, STANDARD_STATES
 
     parser.add_argument("files", nargs="+", metavar="FILE", help="frequency-job output file")
     parser.add_argument("--temperature", type=_positive_float, action="append", metavar="K",
@@ -155,7 +155,7 @@ def _table(entries) -> str:
 
 def run(args) -> int:
     from dossier.reading import read
-    from dossier.thermo import thermo_from_record
+    from dossier.science.thermo import thermo_from_record
 
     temperatures = args.temperature or [298.15]
     if args.geometry and len(args.files) != 1:

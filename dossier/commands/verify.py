@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import sys
 
-from dossier.archive import CHECKSUMS_NAME, verify_archive
+from dossier.archive.bundle import CHECKSUMS_NAME, verify_archive
 
 HELP = "check every file of a dossier archive against its checksum list (and optionally rebuild it)"
 

@@ -28,10 +28,10 @@ from markupsafe import Markup
 
 from dossier import __version__, units
 from dossier.errors import BuildError
-from dossier.exports import cited_works, state_energy_hartree
-from dossier.figures import FigureOut, preferred_scheme, profile_quantity, report_temperature, unit_label
+from dossier.report.exports import cited_works, state_energy_hartree
+from dossier.report.figures import FigureOut, preferred_scheme, profile_quantity, report_temperature, unit_label
 
-TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"
+TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
 
 #: Section templates in document order: (file, anchor id, title).
 SECTIONS = [
@@ -279,7 +279,7 @@ def cite(view: dict, *keys: str) -> str:
 
 
 def cite_for(view: dict, kind: str, name: str) -> str:
-    from dossier import exports
+    from dossier.report import exports
 
     finder = {"functional": exports._functional_keys, "method": exports._method_keys, "basis": exports._basis_keys,
               "dispersion": exports._dispersion_keys, "solvation": exports._solvation_keys,

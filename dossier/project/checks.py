@@ -31,8 +31,9 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from dossier import geometry, units
-from dossier.project import FOUR_POINT_KEYS, Project, State
+from dossier import units
+from dossier.science import geometry
+from dossier.project.model import FOUR_POINT_KEYS, Project, State
 from dossier.records import Calculation
 
 SEVERITIES = ("error", "warning", "info")

@@ -20,7 +20,7 @@ from typing import Any
 import numpy as np
 from scipy import optimize, special
 
-from . import units as u
+from dossier import units as u
 
 ArrayLike = Any
 

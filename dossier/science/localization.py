@@ -31,8 +31,8 @@ from typing import Any
 
 import numpy as np
 
-from . import geometry
-from .records import Calculation
+from dossier.science import geometry
+from dossier.records import Calculation
 
 #: Covalent radii (angstrom) for bond detection: B. Cordero et al., Dalton Trans. 2008, 2832, Table 2
 #: (sp3 C value for C). Two atoms are bonded when d < BOND_TOLERANCE x (r_i + r_j) (common practice).

@@ -33,11 +33,11 @@ from typing import Any
 
 import numpy as np
 
-from . import geometry
-from . import localization as loc
-from . import marcus
-from . import units as u
-from .records import Calculation
+from dossier.science import geometry
+from dossier.science import localization as loc
+from dossier.science import marcus
+from dossier import units as u
+from dossier.records import Calculation
 
 SCHEMA_VERSION = 1
 REFERENCE_TEMPERATURE_K = 298.15
@@ -126,7 +126,7 @@ class _Energies:
         key = (state, float(temperature_k))
         if key in self._thermo:
             return self._thermo[key]
-        from . import thermo as th
+        from dossier.science import thermo as th
 
         st = self.p.states[state]
         freq = st.frequencies
@@ -372,7 +372,7 @@ def _site_distance(calc: Calculation, sites, a: str | None, b: str | None) -> fl
 
 def _mode_analysis(ctx, pw) -> dict | None:
     """Per-mode reorganization of the reactant's frequencies displaced to the product geometry."""
-    from . import thermo as th
+    from dossier.science import thermo as th
 
     p = ctx.project
     r, prod = p.states[pw.reactant], p.states[pw.product]
@@ -693,7 +693,7 @@ def _rates(ctx, pw, inp: _RateInputs, temps: list[float], *, annotate: bool) -> 
                 if t == temps[0]:
                     missing.append({"model": model, "reason": str(exc)})
                 break
-            entry = {"temperature_k": t, "model": model, **e, "function": f"dossier.marcus.{FUNCTIONS[model].__name__}",
+            entry = {"temperature_k": t, "model": model, **e, "function": f"dossier.science.marcus.{FUNCTIONS[model].__name__}",
                      "formula": FORMULAS[model]}
             entry["provenance"] = {"formula": FORMULAS[model], "inputs": e["inputs"], "levels": inp.levels}
             if annotate and ctx.uncertainty is not None:
@@ -873,7 +873,7 @@ def _pathway_entry(ctx, pw) -> dict:
         "ladder": ladder,
     }
     if ctx.experiment_data is not None:
-        from . import experiment as ex
+        from dossier.science import experiment as ex
 
         comparison = ex.compare_pathway(entry, ctx.experiment_data, ctx.uncertainty)
         if comparison is not None:
@@ -919,7 +919,7 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
                           "delta_g0_kj_mol": dg0, "temperature_k": ctx.t_ref}
                 combos.append({"reorganization_energy_route": lr["route"], "coupling_route": hr["route"],
                                "temperature_k": ctx.t_ref, "model": MODEL_MARCUS,
-                               "function": "dossier.marcus.marcus_nonadiabatic_rate_per_s", "parameters": params,
+                               "function": "dossier.science.marcus.marcus_nonadiabatic_rate_per_s", "parameters": params,
                                "rate_per_s": marcus.marcus_nonadiabatic_rate_per_s(**params)})
     rung["route_combinations"] = combos
     return rung
@@ -930,7 +930,7 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
 # ---------------------------------------------------------------------------
 def _profile(ctx, name: str, kind: str, states: list[str], recipe: str) -> dict:
     """One energy profile through dossier.energetics (our RRHO corrections, the recipe's electronic energies)."""
-    from . import energetics
+    from dossier.science import energetics
 
     en = ctx.energies
     thermal = ctx.project.recipes[recipe].thermal == "frequencies"
@@ -968,7 +968,7 @@ def _energy_profiles(ctx) -> list[dict]:
 
 
 def _isomer_populations(ctx) -> list[dict]:
-    from . import energetics
+    from dossier.science import energetics
 
     out = []
     p = ctx.project
@@ -993,7 +993,7 @@ def _isomer_populations(ctx) -> list[dict]:
 # ---------------------------------------------------------------------------
 class _Context:
     def __init__(self, project):
-        from . import uncertainty as unc
+        from dossier.science import uncertainty as unc
 
         self.project = project
         self.temperatures = [float(t) for t in project.settings.temperatures_k]
@@ -1004,7 +1004,7 @@ class _Context:
         self.uncertainty = unc.model_from_project(project)
         self.experiment_data = None
         try:
-            from . import experiment as ex
+            from dossier.science import experiment as ex
         except ImportError:  # the experiment module is optional at this layer
             ex = None
         if ex is not None and getattr(project, "experiment", None):
@@ -1025,7 +1025,7 @@ class _Context:
     def rate_temperatures(self, pathway: str) -> list[float]:
         temps = list(self.temperatures)
         if self.experiment_data is not None:
-            from . import experiment as ex
+            from dossier.science import experiment as ex
 
             for t in ex.experiment_temperatures(self.experiment_data, pathway):
                 if all(abs(t - x) > ex.SAME_TEMPERATURE_K for x in temps):
@@ -1036,7 +1036,7 @@ class _Context:
 def analyse(project, *, progress=None) -> dict:
     """The dossier.json content (docs/dossier-json.md) of a bound Project, except `sources` and
     `generator`, which the build adds. Deterministic; plain JSON types only."""
-    from .checks import run_checks
+    from dossier.project.checks import run_checks
 
     ctx = _Context(project)
     total = len(project.states) + len(project.pathways) + 2
@@ -1085,7 +1085,7 @@ def analyse(project, *, progress=None) -> dict:
         "model_statement": MODEL_STATEMENT,
     }
     if ctx.experiment_data is not None:
-        from . import experiment as ex
+        from dossier.science import experiment as ex
 
         computed = {st.name: list(st.frequencies.vibrations.wavenumbers_cm1)
                     for st in project.states.values() if st.frequencies is not None and st.frequencies.vibrations}

@@ -22,11 +22,11 @@ from typing import Any
 
 import numpy as np
 
-from dossier import marcus
-from dossier import statements as st
+from dossier.science import marcus
+from dossier.report import statements as st
 from dossier.errors import ManifestError
-from dossier.project import TEMPERATURE_RANGE_K
-from dossier.uncertainty import LN10, UncertaintyModel
+from dossier.project.model import TEMPERATURE_RANGE_K
+from dossier.science.uncertainty import LN10, UncertaintyModel
 from dossier.units import CM1_KJ_MOL, PI, rt_kj_mol
 
 WhereOf = Callable[..., str]

@@ -178,8 +178,8 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     Raises a DossierError (manifest, read or build error) for bad input; the previous dossier
     in ``out_dir`` is then left untouched.
     """
-    from dossier import exports
-    from dossier.project import load_project
+    from dossier.report import exports
+    from dossier.project.model import load_project
 
     formats = parse_formats(formats)
     say = progress or (lambda text: None)
@@ -205,7 +205,7 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     project = load_project(manifest_path, jobs=jobs, use_cache=use_cache, progress=read_progress)
     timings["read"] = time.perf_counter() - t0
 
-    from dossier.analysis import analyse
+    from dossier.analysis.assemble import analyse
 
     t0 = time.perf_counter()
     say("analysing (thermochemistry, localization, rates, uncertainty, checks)")
@@ -239,7 +239,8 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
         if "bib" in formats:
             written["references.bib"] = exports.write_bibtex(data, tmp / "references.bib")
         if {"html", "pdf"} & set(formats) or png:
-            from dossier import figures, render
+            from dossier.report import figures
+            from dossier.report import render
 
             t0 = time.perf_counter()
             say("drawing figures")
