@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 from scipy import constants as C
 
-from dossier.analysis import assemble as analysis
+from dossier import analysis
 from dossier.science import marcus
 from dossier import units as u
 from dossier.project.model import Pathway, Project, Recipe, Settings, State

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from scipy import constants as c
 
+from dossier.analysis import experiment as comparison
 from dossier.science import experiment as ex
 from dossier.science import uncertainty as unc
 from dossier.errors import ManifestError
@@ -147,7 +148,7 @@ def test_compare_pathway_inside_and_outside():
                                                           "distance_angstrom": 4.9, "source": "invented"}]},
                                   pathways=["a_to_b"])
     p = _pathway(1.0e9, 8.2, 9.8, 7.2, 10.8)
-    out = ex.compare_pathway(p, data)
+    out = comparison.compare_pathway(p, data)
     (r,) = out["rates"]
     assert r["log10_ratio"] == pytest.approx(9 - math.log10(2e7))
     assert r["inside_68"] is False and r["inside_95"] is True
@@ -161,7 +162,7 @@ def test_compare_pathway_inside_and_outside():
     # rate/30 against 2e7: log10(1e9 / 30 / 2e7) = 0.22 decades above
     assert "ccsd(t)//dft comes closest" in best["statement"] and "0.2 decades above" in best["statement"]
     # no data for another pathway -> None
-    assert ex.compare_pathway(dict(p, name="other"), data) is None
+    assert comparison.compare_pathway(dict(p, name="other"), data) is None
 
 
 def test_compare_interpolates_between_bracketing_temperatures():
@@ -175,7 +176,7 @@ def test_compare_interpolates_between_bracketing_temperatures():
          "log10_rate_interval_95": [math.log10(k(t)) - 2, math.log10(k(t)) + 2]} for t in (280.0, 320.0)]}
     data = ex.validate_experiment({"rates": [{"pathway": "a_to_b", "temperature_k": 300.0, "rate_per_s": k(300.0),
                                               "source": "x"}]})
-    (r,) = ex.compare_pathway(p, data)["rates"]
+    (r,) = comparison.compare_pathway(p, data)["rates"]
     assert r["computed_interpolated"]
     assert abs(r["log10_ratio"]) < 0.01  # Eyring's T prefactor makes 1/T interpolation near-exact
     assert r["inside_68"]
@@ -218,11 +219,11 @@ def test_vibrations_and_g_values_placed_beside_computed():
         "vibrations": [{"state": "min_a", "wavenumber_cm1": 1350.0, "assignment": "NO2 symmetric stretch",
                         "source": "s"}],
         "g_values": [{"state": "min_a", "g_iso": 2.0049, "source": "s"}]})
-    rows = ex.place_vibrations(data, {"min_a": [-50.0, 1300.0, 1420.0, 1600.0]}, frequency_scale=1.0)
+    rows = comparison.place_vibrations(data, {"min_a": [-50.0, 1300.0, 1420.0, 1600.0]}, frequency_scale=1.0)
     assert rows[0]["computed_cm1"] == 1300.0 and rows[0]["difference_cm1"] == -50.0
-    g = ex.place_g_values(data, {"min_a": {"g_iso": 2.0052}})
+    g = comparison.place_g_values(data, {"min_a": {"g_iso": 2.0052}})
     assert g[0]["difference_g_iso"] == pytest.approx(0.0003)
-    assert "note" in ex.place_g_values(data)[0]
+    assert "note" in comparison.place_g_values(data)[0]
 
 
 def test_measured_rate_errors_and_temperatures():

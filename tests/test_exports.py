@@ -11,6 +11,7 @@ import re
 import pytest
 from scipy import constants
 
+from dossier.analysis import citations
 from dossier.report import exports
 from dossier.errors import BuildError
 
@@ -119,7 +120,7 @@ def test_bibtex_is_well_formed_and_cites_the_programs_used(data):
     for prog, key in (("nwchem", "nwchem"), ("gaussian", "gaussian"), ("q-chem", "qchem")):
         assert (key in keys) == (prog in programs)
     assert "cclib" in keys and "eyring" in keys
-    assert [r["key"] for r in exports.cited_works(data)] == keys
+    assert [r["key"] for r in citations.cited_works(data)] == keys
 
 
 def test_atomic_write_leaves_the_old_file_when_the_rename_fails(tmp_path, monkeypatch):

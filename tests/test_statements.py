@@ -9,8 +9,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as s
 from scipy import constants as c
 
-from dossier.science import experiment as ex
-from dossier.report import statements as st
+from dossier.analysis import experiment as comparison
+from dossier.analysis import statements as st
 from dossier.science import uncertainty as unc
 
 RATE_RE = re.compile(
@@ -88,7 +88,7 @@ def test_comparison_sentence_agrees_with_its_entry():
                 "log10_error": 5e6 / (2e7 * math.log(10)), "method": "m", "source": "s"}
     computed = {"model": "eyring-tst", "rate_per_s": 1.0e9, "log10_rate_interval_68": [8.2, 9.8],
                 "log10_rate_interval_95": [7.2, 10.8], "log10_rate_median": 9.0}
-    r = ex.compare_rate(measured, computed)
+    r = comparison.compare_rate(measured, computed)
     text = r["statement"]
     shift = re.search(r"would have to be (\d+\.\d) kJ/mol (higher|lower)", text)
     assert float(shift[1]) == pytest.approx(abs(r["barrier_shift_to_match_kj_mol"]), abs=0.05)

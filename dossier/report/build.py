@@ -13,7 +13,6 @@ behind. Only a folder that is empty or holds a previous dossier build is ever re
 """
 from __future__ import annotations
 
-import dataclasses
 import os
 import platform
 import shutil
@@ -61,33 +60,6 @@ def parse_formats(text: str | Iterable[str]) -> tuple[str, ...]:
 
 # -- the result dict additions ----------------------------------------------------------------
 
-def source_entries(project) -> list[dict]:
-    """One entry per file the dossier used: path (as the manifest names it), SHA-256, program, level."""
-    used_for: dict[Path, list[str]] = {}
-    for name, state in project.states.items():
-        for part, rec in state.records():
-            used_for.setdefault(Path(rec.source.path), []).append(f"{name} {part.replace('_', ' ')}")
-    for pw in project.pathways:
-        for key, rec in (pw.four_point or {}).items():
-            used_for.setdefault(Path(rec.source.path), []).append(f"{pw.name} four-point {key.replace('_', ' ')}")
-    entries = []
-    for path, rec in project.records.items():
-        entries.append({
-            "path": project.label(path),
-            "sha256": rec.source.sha256,
-            "size_bytes": rec.source.size_bytes,
-            "program": rec.program,
-            "program_version": rec.program_version,
-            "status": rec.status.word,
-            "level_of_theory": rec.level.label(),
-            "level": dataclasses.asdict(rec.level),
-            "job_kinds": list(rec.job_kinds),
-            "used_for": sorted(set(used_for.get(Path(rec.source.path), []))),
-        })
-    entries.sort(key=lambda e: e["path"])
-    return entries
-
-
 def generator_entry() -> dict:
     import cclib
 
@@ -96,9 +68,8 @@ def generator_entry() -> dict:
 
 
 def complete_data(data: dict, project) -> dict:
-    """Add what only the build knows: sources, generator, the sites (1-based, as the manifest)."""
+    """Add what only the build knows: the generator, the sites (1-based, as the manifest)."""
     out = dict(data)
-    out["sources"] = source_entries(project)
     out["generator"] = generator_entry()
     proj = dict(out.get("project") or {})
     proj.setdefault("sites", {k: [i + 1 for i in v] for k, v in project.sites.items()})

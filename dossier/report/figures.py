@@ -173,15 +173,8 @@ def _temperature_key(table: dict, temperature_k: float | None) -> str | None:
 
 
 def report_temperature(data: dict) -> float | None:
-    """The temperature the figures use: the project's reference temperature, else 298.15 K if present, else the first."""
-    ref = (data.get("project") or {}).get("reference_temperature_k")
-    if isinstance(ref, (int, float)):
-        return float(ref)
-    temps = data.get("project", {}).get("temperatures_k") or []
-    for t in temps:
-        if abs(float(t) - 298.15) < 1e-6:
-            return float(t)
-    return float(temps[0]) if temps else None
+    """The temperature the report quotes (chosen by the analysis: `report.temperature_k`)."""
+    return data["report"]["temperature_k"]
 
 
 # -- individual figures -------------------------------------------------------------------
@@ -502,18 +495,6 @@ def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool
 
 # -- the whole set ------------------------------------------------------------------------
 
-def preferred_scheme(states: list[dict]) -> str | None:
-    seen: list[str] = []
-    for st in states:
-        for s in ((st.get("localization") or {}).get("schemes") or {}):
-            if s not in seen:
-                seen.append(s)
-    for s in ("hirshfeld", "lowdin", "mulliken"):
-        if s in seen:
-            return s
-    return sorted(seen)[0] if seen else None
-
-
 def sites_of(data: dict) -> dict[str, list[int]]:
     return dict((data.get("project") or {}).get("sites") or {})
 
@@ -549,7 +530,7 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
                 "surfaces (solid, dash-dot) from the electronic coupling"
                 + (f" ({pw['coupling_cm1']:.0f} cm-1)" if pw.get("coupling_cm1") is not None else " (not available)")
                 + "; two-state model.", {"pathway": pw["name"]})
-    scheme = preferred_scheme(data.get("states", []))
+    scheme = data["report"]["population_scheme"]
     if scheme:
         add(site_population_figure(data["states"], scheme), "sites-0", "localization", "Spin and charge per site",
             f"Spin population (top) and charge (bottom) summed over the atoms of each site ({scheme} scheme), for every state.",

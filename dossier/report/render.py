@@ -28,8 +28,8 @@ from markupsafe import Markup
 
 from dossier import __version__, units
 from dossier.errors import BuildError
-from dossier.report.exports import cited_works, state_energy_hartree
-from dossier.report.figures import FigureOut, preferred_scheme, profile_quantity, report_temperature, unit_label
+from dossier.report.exports import state_energy_hartree, works_cited
+from dossier.report.figures import FigureOut, report_temperature, unit_label
 
 TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
 
@@ -169,26 +169,6 @@ def _state_by_name(data: dict) -> dict[str, dict]:
     return {s["name"]: s for s in data.get("states", [])}
 
 
-def _model_in_range(pw: dict, model: str) -> bool:
-    """True when no rate of this model is flagged as outside its formula's range."""
-    rates = [r for r in pw.get("rates", []) if r.get("model") == model]
-    return bool(rates) and all(
-        (r.get("validity") or {}).get("valid", True) and (r.get("validity") or {}).get("nonadiabatic_regime", True)
-        for r in rates)
-
-
-def _headline_model(pw: dict) -> str | None:
-    """The model the plain-words summary quotes: the first one (the experiment's comparison model
-    first, then the analysis order) whose formula is within its range at every temperature."""
-    exp = (pw.get("experiment") or {}).get("rates") or []
-    candidates = [e["computed_model"] for e in exp if e.get("computed_model")]
-    candidates += [r.get("model") for r in pw.get("rates", []) if r.get("model")]
-    for model in candidates:
-        if _model_in_range(pw, model):
-            return model
-    return candidates[0] if candidates else None
-
-
 def _where_electron(state: dict | None, scheme: str | None) -> dict:
     if not state:
         return {"site": None}
@@ -204,10 +184,10 @@ def summary_view(data: dict) -> list[dict]:
     """Per pathway: the facts the plain-words summary states."""
     unit = (data.get("project") or {}).get("energy_unit", "kJ/mol")
     states = _state_by_name(data)
-    scheme = preferred_scheme(data.get("states", []))
+    scheme = data["report"]["population_scheme"]
     out = []
     for pw in data.get("pathways", []):
-        model = _headline_model(pw)
+        model = data["report"]["quoted_models"].get(pw["name"])
         rates = sorted((r for r in pw.get("rates", []) if r.get("model") == model), key=lambda r: r.get("temperature_k", 0))
         exp_all = (pw.get("experiment") or {}).get("rates") or []
         matched = [e for e in exp_all if e.get("computed_model") in (model, None)]
@@ -262,7 +242,7 @@ def methods_view(data: dict) -> dict:
                 seen[v.casefold()] = v
         return list(seen.values())
 
-    refs = cited_works(data)
+    refs = works_cited(data)
     number = {r["key"]: i + 1 for i, r in enumerate(refs)}
     return {
         "programs": [{"program": p, "version": v, "files": len(f)} for (p, v), f in sorted(programs.items())],
@@ -279,12 +259,9 @@ def cite(view: dict, *keys: str) -> str:
 
 
 def cite_for(view: dict, kind: str, name: str) -> str:
-    from dossier.report import exports
+    from dossier.analysis.citations import keys_for
 
-    finder = {"functional": exports._functional_keys, "method": exports._method_keys, "basis": exports._basis_keys,
-              "dispersion": exports._dispersion_keys, "solvation": exports._solvation_keys,
-              "program": lambda n: [exports._PROGRAM_KEYS.get(n.lower(), "")]}[kind]
-    return cite(view, *finder(name or ""))
+    return cite(view, *keys_for(kind, name))
 
 
 def profile_table(profile: dict, unit: str) -> dict:
