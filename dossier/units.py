@@ -87,3 +87,8 @@ KJ_MOL_J = 1000.0 / _c.N_A  # one kJ/mol as energy per molecule, J
 
 # Added for thermochemistry (dossier/thermo.py): 1 mol/L standard state, c = 1 / LITRE_M3 mol m-3
 LITRE_M3 = _c.liter
+
+# Temperatures the dossier accepts anywhere (manifest, measurements, command line), K: below 1 K and
+# above 5000 K the rigid-rotor/harmonic models and every rate formula here are meaningless
+# (common practice, no source).
+TEMPERATURE_RANGE_K = (1.0, 5000.0)

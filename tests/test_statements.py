@@ -10,7 +10,7 @@ from hypothesis import strategies as s
 from scipy import constants as c
 
 from dossier.analysis import experiment as comparison
-from dossier.analysis import statements as st
+from dossier.science import statements as st
 from dossier.science import uncertainty as unc
 
 RATE_RE = re.compile(

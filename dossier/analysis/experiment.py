@@ -10,7 +10,7 @@ import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from dossier.analysis import statements as st
+from dossier.science import statements as st
 import numpy as np
 
 from dossier.science.experiment import (SAME_TEMPERATURE_K, ExperimentData, _positive, barrier_shift_to_match_kj_mol,

@@ -8,6 +8,9 @@ Public API (the team contract):
 - ``read_many(paths, *, jobs=None, executor=None, use_cache=True, cache_dir=None, progress=None)
   -> list[Calculation | ReadError]`` in input order.
 - ``find_outputs(folder) -> list[Path]``, recursive and safe against symlink loops.
+
+The reading stage owns everything that touches an output file's text; nothing after it re-reads a
+log. It may import only the shared vocabulary (dossier.units, dossier.errors, dossier.records).
 """
 from __future__ import annotations
 

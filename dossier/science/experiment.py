@@ -25,9 +25,9 @@ import numpy as np
 
 from dossier.science import marcus
 from dossier.errors import ManifestError
-from dossier.project.model import TEMPERATURE_RANGE_K
+
 from dossier.science.uncertainty import LN10, UncertaintyModel
-from dossier.units import CM1_KJ_MOL, PI, rt_kj_mol
+from dossier.units import CM1_KJ_MOL, PI, TEMPERATURE_RANGE_K, rt_kj_mol
 
 WhereOf = Callable[..., str]
 

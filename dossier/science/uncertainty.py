@@ -139,7 +139,7 @@ class RateUncertainty:
 
     def to_dict(self) -> dict[str, Any]:
         """The keys a rate entry of dossier.json gains (docs/dossier-json.md), plus details."""
-        from dossier.analysis.statements import rate_statement
+        from dossier.science.statements import rate_statement
 
         out: dict[str, Any] = {
             "log10_rate_interval_68": [_r(v) for v in self.log10_rate_interval_68],
@@ -164,7 +164,7 @@ class RateUncertainty:
                 "correlations": dict(self.correlations),
             },
         }
-        from dossier.analysis.statements import methods_agreement_statement
+        from dossier.science.statements import methods_agreement_statement
 
         out["uncertainty"]["agreement_statement"] = methods_agreement_statement(self)
         if self.n_invalid:
@@ -658,7 +658,7 @@ class UncertaintyModel:
 
     def to_dict(self) -> dict[str, Any]:
         """The top-level `uncertainty` entry of dossier.json."""
-        from dossier.analysis.statements import correlation_statement
+        from dossier.science.statements import correlation_statement
 
         return {
             "method": "Monte Carlo",
