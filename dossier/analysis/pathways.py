@@ -76,16 +76,7 @@ def _pathway_entry(ctx, pw) -> dict:
                            barrier=_chosen_energy_route(b["barrier"], p.recipes[bar_recipe].thermal == "frequencies", True),
                            lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels)
 
-    lz = []
-    if hab is not None and lam is not None and nu_n is not None:
-        for t in temps:
-            lz.append({"temperature_k": t, "nuclear_frequency_cm1": nu_n,
-                       "nuclear_frequency_per_s": nu_n * u.CM1_HZ,
-                       "electronic_frequency_per_s": marcus.electronic_frequency_per_s(hab["value_cm1"], lam["value_kj_mol"], t),
-                       "adiabaticity_parameter": marcus.landau_zener_parameter(hab["value_cm1"], lam["value_kj_mol"], t, nu_n),
-                       "probability": marcus.landau_zener_probability(hab["value_cm1"], lam["value_kj_mol"], t, nu_n),
-                       "transmission_coefficient": marcus.landau_zener_transmission_coefficient(
-                           hab["value_cm1"], lam["value_kj_mol"], t, nu_n)})
+    lz = _landau_zener_series(hab, lam, nu_n, temps)
 
     ladder = [_ladder_rung(ctx, pw, rc, temps, lam, hab, mlj, nu_n, lam_routes, hab_routes) for rc in pw.ladder]
 
@@ -125,6 +116,19 @@ def _pathway_entry(ctx, pw) -> dict:
             entry["experiment"] = comparison
     return entry
 
+
+def _landau_zener_series(hab: dict | None, lam: dict | None, nu_n: float | None, temps: list[float]) -> list[dict]:
+    """Landau–Zener adiabaticity parameter, probability and transmission coefficient at each
+    temperature (dossier.science.marcus; Newton & Sutin 1984)."""
+    if hab is None or lam is None or nu_n is None:
+        return []
+    h, lam_kj = hab["value_cm1"], lam["value_kj_mol"]
+    return [{"temperature_k": t, "nuclear_frequency_cm1": nu_n, "nuclear_frequency_per_s": nu_n * u.CM1_HZ,
+             "electronic_frequency_per_s": marcus.electronic_frequency_per_s(h, lam_kj, t),
+             "adiabaticity_parameter": marcus.landau_zener_parameter(h, lam_kj, t, nu_n),
+             "probability": marcus.landau_zener_probability(h, lam_kj, t, nu_n),
+             "transmission_coefficient": marcus.landau_zener_transmission_coefficient(h, lam_kj, t, nu_n)}
+            for t in temps]
 
 
 def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_routes) -> dict:

@@ -99,42 +99,38 @@ def _mode_analysis(ctx, pw) -> dict | None:
 
 
 
-def _lambda_routes(ctx, pw, modes) -> tuple[list[dict], list[dict], dict | None]:
-    p, en = ctx.project, ctx.energies
-    routes, missing = [], []
-    r, ts = p.states[pw.reactant], p.states.get(pw.transition_state) if pw.transition_state else None
-    prod = p.states[pw.product]
-    rc = pw.levels.get("reorganization_energy", pw.recipe)
-    # (i) four-point
-    if pw.four_point:
-        fp = pw.four_point
-        vals = {k: fp[k].energy_hartree for k in fp}
-        if any(v is None for v in vals.values()):
-            missing.append({"parameter": "reorganization_energy", "route": "four-point",
-                            "reason": "a four-point job holds no final energy"})
-        else:
-            lam = marcus.four_point_reorganization_kj_mol(vals["reactant_at_reactant"], vals["reactant_at_product"],
-                                                          vals["product_at_product"], vals["product_at_reactant"])
-            levels = sorted({fp[k].level.label() for k in fp})
-            routes.append({
-                "route": "four-point", "value_kj_mol": lam,
-                "relaxation_reactant_kj_mol": _kj(vals["reactant_at_product"] - vals["reactant_at_reactant"]),
-                "relaxation_product_kj_mol": _kj(vals["product_at_reactant"] - vals["product_at_product"]),
-                "energies_hartree": vals, "note": pw.four_point_note,
-                "provenance": _prov(list((pw.four_point_files or {}).values()), [], "; ".join(levels),
-                                    "lambda = [E(R@P) - E(R@R)] + [E(P@R) - E(P@P)] "
-                                    "(Nelsen, Blackstock, Kim, JACS 1987, 109, 677)",
-                                    kind="inner-sphere (the four jobs' own solvent treatment)"),
-            })
-    else:
+def _four_point_route(pw, missing: list[dict]) -> dict | None:
+    """lambda from the four-point set (Nelsen, Blackstock, Kim, JACS 1987, 109, 677)."""
+    if not pw.four_point:
         missing.append({"parameter": "reorganization_energy", "route": "four-point",
                         "reason": "the pathway has no [pathways.four_point] table"})
-    # (ii) vertical excitation at the reactant (and at the product)
-    try:
-        de0 = en.relative_kj_mol(pw.reactant, pw.product, rc, ctx.t_ref, "electronic")
-    except _Unavailable as exc:
-        de0 = None
-        missing.append({"parameter": "reorganization_energy", "route": "vertical-excitation", "reason": str(exc)})
+        return None
+    fp = pw.four_point
+    vals = {k: fp[k].energy_hartree for k in fp}
+    if any(v is None for v in vals.values()):
+        missing.append({"parameter": "reorganization_energy", "route": "four-point",
+                        "reason": "a four-point job holds no final energy"})
+        return None
+    lam = marcus.four_point_reorganization_kj_mol(vals["reactant_at_reactant"], vals["reactant_at_product"],
+                                                  vals["product_at_product"], vals["product_at_reactant"])
+    levels = sorted({fp[k].level.label() for k in fp})
+    return {
+        "route": "four-point", "value_kj_mol": lam,
+        "relaxation_reactant_kj_mol": _kj(vals["reactant_at_product"] - vals["reactant_at_reactant"]),
+        "relaxation_product_kj_mol": _kj(vals["product_at_reactant"] - vals["product_at_product"]),
+        "energies_hartree": vals, "note": pw.four_point_note,
+        "provenance": _prov(list((pw.four_point_files or {}).values()), [], "; ".join(levels),
+                            "lambda = [E(R@P) - E(R@R)] + [E(P@R) - E(P@P)] "
+                            "(Nelsen, Blackstock, Kim, JACS 1987, 109, 677)",
+                            kind="inner-sphere (the four jobs' own solvent treatment)"),
+    }
+
+
+def _vertical_routes(ctx, pw, rc: str, de0: float | None, missing: list[dict]) -> list[dict]:
+    """lambda = E_op - dE0 from the lowest excitation at the reactant (and at the product; Hush 1967)."""
+    p, en = ctx.project, ctx.energies
+    r, prod = p.states[pw.reactant], p.states[pw.product]
+    routes = []
     for state, sign, where in ((r, 1.0, "reactant"), (prod, -1.0, "product")):
         x = _lowest_excitation(state.excited_states)
         if x is None:
@@ -155,50 +151,80 @@ def _lambda_routes(ctx, pw, modes) -> tuple[list[dict], list[dict], dict | None]
                                 "lambda = E_op - dE0, lowest excitation at the minimum (Hush, Prog. Inorg. Chem. "
                                 "1967, 8, 391); dE0 electronic at recipe " + rc),
         })
-    # (iii) two-state fit
-    fit = None
-    if ts is not None and de0 is not None:
-        try:
-            barrier_e = en.relative_kj_mol(pw.reactant, pw.transition_state, rc, ctx.t_ref, "electronic")
-        except _Unavailable:
-            barrier_e = None
-        obs = {"barrier_kj_mol": barrier_e}
-        files = en.files(pw.state_names, rc)
-        for key, stt in (("gap_at_reactant_kj_mol", r), ("gap_at_ts_kj_mol", ts), ("gap_at_product_kj_mol", prod)):
-            x = _lowest_excitation(stt.excited_states)
-            if x is not None and not (key == "gap_at_product_kj_mol" and stt.name == r.name):
-                obs[key] = x.energy_cm1 * u.CM1_KJ_MOL
-                files.append(p.label(stt.excited_states))
-        n_obs = sum(1 for v in obs.values() if v is not None)
-        if n_obs >= 2 and any(k.startswith("gap") for k in obs):
-            fit = marcus.fit_two_state_model(delta_e0_kj_mol=de0, **obs)
-            fit["observations_kj_mol"] = {k: v for k, v in obs.items() if v is not None}
-            fit["delta_e0_kj_mol"] = de0
-            routes.append({
-                "route": "two-state-fit", "value_kj_mol": fit["reorganization_energy_kj_mol"],
-                "rms_residual_kj_mol": fit["rms_residual_kj_mol"], "observations_kj_mol": fit["observations_kj_mol"],
-                "provenance": _prov(list(dict.fromkeys(files)), pw.state_names, en.level_label(pw.reactant, rc),
-                                    "least-squares fit of the diabatic parabolas lambda x^2, lambda (x-1)^2 + dE0 "
-                                    "coupled by H_ab to the electronic barrier and the lowest vertical gaps "
-                                    "(Brunschwig, Creutz, Sutin, Chem. Soc. Rev. 2002, 31, 168)"),
-            })
-        else:
-            missing.append({"parameter": "reorganization_energy", "route": "two-state-fit",
-                            "reason": "needs the barrier and at least one vertical gap (excited-state job)"})
-    # (iv) normal-mode projection
-    if modes is not None:
-        routes.append({
-            "route": "normal-mode-projection", "value_kj_mol": modes["total_kj_mol"],
-            "provenance": _prov(modes["files"], [pw.reactant, pw.product],
-                                p.states[pw.reactant].frequencies.level.label(),
-                                "lambda = sum_j (1/2) omega_j^2 Q_j^2, reactant modes displaced to the product "
-                                "geometry (harmonic; Huang & Rhys 1950; Reimers, J. Chem. Phys. 2001, 115, 9103)",
-                                kind="inner-sphere, harmonic",
-                                note="the reactant's adiabatic Hessian is softened by the coupling along the transfer "
-                                     "coordinate, so this underestimates lambda when H_ab is large"),
-        })
-    return routes, missing, fit
+    return routes
 
+
+def _two_state_fit(ctx, pw, rc: str, de0: float | None, missing: list[dict]) -> tuple[dict | None, dict | None]:
+    """The two-state model fitted to the electronic barrier and the vertical gaps (route, fit)."""
+    p, en = ctx.project, ctx.energies
+    ts = p.states.get(pw.transition_state) if pw.transition_state else None
+    if ts is None or de0 is None:
+        return None, None
+    r, prod = p.states[pw.reactant], p.states[pw.product]
+    try:
+        barrier_e = en.relative_kj_mol(pw.reactant, pw.transition_state, rc, ctx.t_ref, "electronic")
+    except _Unavailable:
+        barrier_e = None
+    obs = {"barrier_kj_mol": barrier_e}
+    files = en.files(pw.state_names, rc)
+    for key, stt in (("gap_at_reactant_kj_mol", r), ("gap_at_ts_kj_mol", ts), ("gap_at_product_kj_mol", prod)):
+        x = _lowest_excitation(stt.excited_states)
+        if x is not None and not (key == "gap_at_product_kj_mol" and stt.name == r.name):
+            obs[key] = x.energy_cm1 * u.CM1_KJ_MOL
+            files.append(p.label(stt.excited_states))
+    n_obs = sum(1 for v in obs.values() if v is not None)
+    if n_obs < 2 or not any(k.startswith("gap") for k in obs):
+        missing.append({"parameter": "reorganization_energy", "route": "two-state-fit",
+                        "reason": "needs the barrier and at least one vertical gap (excited-state job)"})
+        return None, None
+    fit = marcus.fit_two_state_model(delta_e0_kj_mol=de0, **obs)
+    fit["observations_kj_mol"] = {k: v for k, v in obs.items() if v is not None}
+    fit["delta_e0_kj_mol"] = de0
+    route = {
+        "route": "two-state-fit", "value_kj_mol": fit["reorganization_energy_kj_mol"],
+        "rms_residual_kj_mol": fit["rms_residual_kj_mol"], "observations_kj_mol": fit["observations_kj_mol"],
+        "provenance": _prov(list(dict.fromkeys(files)), pw.state_names, en.level_label(pw.reactant, rc),
+                            "least-squares fit of the diabatic parabolas lambda x^2, lambda (x-1)^2 + dE0 "
+                            "coupled by H_ab to the electronic barrier and the lowest vertical gaps "
+                            "(Brunschwig, Creutz, Sutin, Chem. Soc. Rev. 2002, 31, 168)"),
+    }
+    return route, fit
+
+
+def _normal_mode_route(ctx, pw, modes: dict) -> dict:
+    """lambda from the reactant's normal modes displaced to the product geometry (harmonic)."""
+    return {
+        "route": "normal-mode-projection", "value_kj_mol": modes["total_kj_mol"],
+        "provenance": _prov(modes["files"], [pw.reactant, pw.product],
+                            ctx.project.states[pw.reactant].frequencies.level.label(),
+                            "lambda = sum_j (1/2) omega_j^2 Q_j^2, reactant modes displaced to the product "
+                            "geometry (harmonic; Huang & Rhys 1950; Reimers, J. Chem. Phys. 2001, 115, 9103)",
+                            kind="inner-sphere, harmonic",
+                            note="the reactant's adiabatic Hessian is softened by the coupling along the transfer "
+                                 "coordinate, so this underestimates lambda when H_ab is large"),
+    }
+
+
+def _lambda_routes(ctx, pw, modes) -> tuple[list[dict], list[dict], dict | None]:
+    """Every reorganization-energy route of a pathway, the reasons for the missing ones, and the
+    two-state fit (which the coupling routes reuse)."""
+    routes, missing = [], []
+    rc = pw.levels.get("reorganization_energy", pw.recipe)
+    four = _four_point_route(pw, missing)
+    if four is not None:
+        routes.append(four)
+    try:
+        de0 = ctx.energies.relative_kj_mol(pw.reactant, pw.product, rc, ctx.t_ref, "electronic")
+    except _Unavailable as exc:
+        de0 = None
+        missing.append({"parameter": "reorganization_energy", "route": "vertical-excitation", "reason": str(exc)})
+    routes += _vertical_routes(ctx, pw, rc, de0, missing)
+    fit_route, fit = _two_state_fit(ctx, pw, rc, de0, missing)
+    if fit_route is not None:
+        routes.append(fit_route)
+    if modes is not None:
+        routes.append(_normal_mode_route(ctx, pw, modes))
+    return routes, missing, fit
 
 
 def _coupling_routes(ctx, pw, lam_route: dict | None, fit: dict | None) -> tuple[list[dict], list[dict]]:
