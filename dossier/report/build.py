@@ -136,6 +136,59 @@ def _swap_in(tmp: Path, out_dir: Path) -> None:
         os.replace(tmp, out_dir)
 
 
+def _write_formats(data: dict, tmp: Path, formats: tuple[str, ...], *, manifest_path: Path, templates_dir,
+                   png: bool, numbered_atoms: bool, say: Progress, timings: dict[str, float]) -> dict[str, Path]:
+    """Write every requested format into the temporary folder ``tmp``; returns name -> path."""
+    from dossier.report import exports
+
+    written: dict[str, Path] = {}
+    exports.write_atomic(tmp / MARKER, f"Built by dossier {__version__} from {manifest_path.name}; "
+                                        "`dossier build` replaces this folder as a whole.\n")
+    if "json" in formats:
+        written["dossier.json"] = exports.write_json(data, tmp / "dossier.json")
+    if "csv" in formats:
+        for name, path in exports.write_csv_tables(data, tmp).items():
+            written[name] = path
+    if "xyz" in formats:
+        written["states.xyz"] = exports.write_xyz(data, tmp / "states.xyz")
+    if "tex" in formats:
+        written["tables.tex"] = exports.write_latex(data, tmp / "tables.tex")
+    if "bib" in formats:
+        written["references.bib"] = exports.write_bibtex(data, tmp / "references.bib")
+    if {"html", "pdf"} & set(formats) or png:
+        written.update(_write_pages(data, tmp, formats, templates_dir=templates_dir, png=png,
+                                    numbered_atoms=numbered_atoms, say=say, timings=timings))
+    return written
+
+
+def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_dir, png: bool, numbered_atoms: bool,
+                 say: Progress, timings: dict[str, float]) -> dict[str, Path]:
+    """Figures (PNG on request), the HTML page and the PDF."""
+    from dossier.report import exports, figures, render
+
+    written: dict[str, Path] = {}
+    t0 = time.perf_counter()
+    say("drawing figures")
+    figs = figures.make_figures(data, png=png, numbered_atoms=numbered_atoms)
+    timings["figures"] = time.perf_counter() - t0
+    if png:
+        for f in figs:
+            written[f"figures/{f.key}.png"] = exports.write_atomic(tmp / "figures" / f"{f.key}.png", f.png)
+    if {"html", "pdf"} & set(formats):
+        t0 = time.perf_counter()
+        say("rendering HTML")
+        html_text = render.render_html(data, figs, templates_dir=templates_dir)
+        if "html" in formats:
+            written["dossier.html"] = exports.write_atomic(tmp / "dossier.html", html_text)
+        timings["html"] = time.perf_counter() - t0
+        if "pdf" in formats:
+            t0 = time.perf_counter()
+            say("rendering PDF (the slowest step)")
+            written["dossier.pdf"] = render.write_pdf(html_text, tmp / "dossier.pdf", tmp)
+            timings["pdf"] = time.perf_counter() - t0
+    return written
+
+
 # -- the build --------------------------------------------------------------------------------
 
 def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_FORMATS, templates_dir=None,
@@ -149,7 +202,6 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     Raises a DossierError (manifest, read or build error) for bad input; the previous dossier
     in ``out_dir`` is then left untouched.
     """
-    from dossier.report import exports
     from dossier.project.model import load_project
 
     formats = parse_formats(formats)
@@ -194,44 +246,9 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     if tmp.exists():
         shutil.rmtree(tmp)
     tmp.mkdir()
-    written: dict[str, Path] = {}
     try:
-        exports.write_atomic(tmp / MARKER, f"Built by dossier {__version__} from {manifest_path.name}; "
-                                            "`dossier build` replaces this folder as a whole.\n")
-        if "json" in formats:
-            written["dossier.json"] = exports.write_json(data, tmp / "dossier.json")
-        if "csv" in formats:
-            for name, path in exports.write_csv_tables(data, tmp).items():
-                written[name] = path
-        if "xyz" in formats:
-            written["states.xyz"] = exports.write_xyz(data, tmp / "states.xyz")
-        if "tex" in formats:
-            written["tables.tex"] = exports.write_latex(data, tmp / "tables.tex")
-        if "bib" in formats:
-            written["references.bib"] = exports.write_bibtex(data, tmp / "references.bib")
-        if {"html", "pdf"} & set(formats) or png:
-            from dossier.report import figures
-            from dossier.report import render
-
-            t0 = time.perf_counter()
-            say("drawing figures")
-            figs = figures.make_figures(data, png=png, numbered_atoms=numbered_atoms)
-            timings["figures"] = time.perf_counter() - t0
-            if png:
-                for f in figs:
-                    written[f"figures/{f.key}.png"] = exports.write_atomic(tmp / "figures" / f"{f.key}.png", f.png)
-            if {"html", "pdf"} & set(formats):
-                t0 = time.perf_counter()
-                say("rendering HTML")
-                html_text = render.render_html(data, figs, templates_dir=templates_dir)
-                if "html" in formats:
-                    written["dossier.html"] = exports.write_atomic(tmp / "dossier.html", html_text)
-                timings["html"] = time.perf_counter() - t0
-                if "pdf" in formats:
-                    t0 = time.perf_counter()
-                    say("rendering PDF (the slowest step)")
-                    written["dossier.pdf"] = render.write_pdf(html_text, tmp / "dossier.pdf", tmp)
-                    timings["pdf"] = time.perf_counter() - t0
+        written = _write_formats(data, tmp, formats, manifest_path=manifest_path, templates_dir=templates_dir,
+                                 png=png, numbered_atoms=numbered_atoms, say=say, timings=timings)
         t0 = time.perf_counter()
         _swap_in(tmp, out_dir)
         timings["swap"] = time.perf_counter() - t0
