@@ -79,7 +79,7 @@ def fixture_data(folder: Path) -> dict:
     """The dossier.json dict of the fixture project (reading + analysis + build additions)."""
     from dossier.analysis.assemble import analyse
     from dossier.report.build import complete_data
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     project = load_project(write_fixture_manifest(folder), jobs=1)
     return complete_data(analyse(project), project)

@@ -15,7 +15,7 @@ from scipy import constants as C
 from dossier import analysis
 from dossier.science import marcus
 from dossier import units as u
-from dossier.project.model import Pathway, Project, Recipe, Settings, State
+from dossier.project import Pathway, Project, Recipe, Settings, State
 from dossier.records import Calculation, ExcitedState, LevelOfTheory, RunStatus, Source, Vibrations
 
 from conftest import DEMO
@@ -257,7 +257,7 @@ def _demo_manifest():
 @pytest.fixture(scope="module")
 def demo():
     path, raw = _demo_manifest()
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     try:
         project = load_project(path)

@@ -58,7 +58,7 @@ def _make_project(root: Path) -> Path:
 
 @pytest.fixture(scope="module")
 def project(tmp_path_factory):
-    pytest.importorskip("dossier.project.model", reason="dossier.project.model (project model) not present yet")
+    pytest.importorskip("dossier.project", reason="dossier.project (project model) not present yet")
     pytest.importorskip("dossier.report.build", reason="dossier.report.build (build) not present yet")
     pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
     from dossier.report.build import build_dossier
@@ -411,7 +411,7 @@ def test_archive_cli_writes_and_verify_cli_agrees(project, tmp_path):
 
 
 def test_archive_of_a_manifest_naming_a_missing_file_is_a_one_line_error(tmp_path):
-    pytest.importorskip("dossier.project.model", reason="dossier.project.model (project model) not present yet")
+    pytest.importorskip("dossier.project", reason="dossier.project (project model) not present yet")
     manifest = tmp_path / "dossier.toml"
     manifest.write_text('[project]\ntitle = "t"\n\n[states.a]\ngeometry = "gone.out"\n')
     out = tmp_path / "a.tar.gz"
@@ -504,7 +504,7 @@ def test_demo_study_archives_with_its_inputs_and_rebuilds(tmp_path, monkeypatch)
     from dossier.errors import ManifestError
 
     pytest.importorskip("dossier.analysis.assemble", reason="dossier.analysis.assemble not present yet")
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     manifest = demo_path("dossier.toml")
     try:

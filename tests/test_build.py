@@ -43,7 +43,7 @@ def demo_build(tmp_path_factory):
 
 @pytest.mark.slow
 def test_demo_writes_every_output_and_names_every_source_with_its_hash(demo_build):
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     manifest, result = demo_build
     names = {"dossier.html", "dossier.pdf", "dossier.json", "energies.csv", "populations.csv", "parameters.csv",
@@ -116,7 +116,7 @@ def analysed(tmp_path_factory, shared_cache):
     from render_fixtures import write_fixture_manifest
 
     from dossier.analysis.assemble import analyse
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     old = os.environ.get("DOSSIER_CACHE_DIR")
     os.environ["DOSSIER_CACHE_DIR"] = str(shared_cache)

@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from dossier.project import checks
-from dossier.project.model import bind, load_manifest, load_project
+from dossier.project import bind, load_manifest, load_project
 
 from conftest import demo_path, fixture_path
 

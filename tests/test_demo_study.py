@@ -168,7 +168,7 @@ def test_min_b_is_the_mirror_image_of_min_a():
 
 def test_checks_catch_the_flawed_runs():
     """dossier check on flawed.toml: each flawed run raises the finding README names."""
-    project = pytest.importorskip("dossier.project.model", reason="dossier.project.model not importable")
+    project = pytest.importorskip("dossier.project", reason="dossier.project not importable")
     checks = pytest.importorskip("dossier.project.checks", reason="dossier.project.checks not importable")
     sound = checks.run_checks(project.load_project(demo_path("dossier.toml"), use_cache=False))
     assert [f.line() for f in sound if f.severity == "error"] == []

@@ -298,7 +298,7 @@ source = "invented"
 ])
 def test_errors_name_the_manifest_line(tmp_path, unc_line, exp_line, marked, fragment):
     # the real loader (dossier.project) locates lines; our validators must use it
-    project = pytest.importorskip("dossier.project.model")
+    project = pytest.importorskip("dossier.project")
     for f in ("a.out", "b.out"):
         (tmp_path / f).write_text("placeholder output\n")
     path = tmp_path / "dossier.toml"

@@ -14,7 +14,7 @@ import pytest
 
 from dossier.project import checks
 from dossier.cli import main
-from dossier.project.model import load_manifest, load_project
+from dossier.project import load_manifest, load_project
 
 from conftest import demo_path, fixture_path
 

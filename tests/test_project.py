@@ -1,4 +1,4 @@
-"""dossier.project.model: manifest validation (one line naming the manifest line), bind, load_project.
+"""dossier.project: manifest validation (one line naming the manifest line), bind, load_project.
 
 Line numbers are not typed in: each case marks the offending line with a `# <-` comment and
 the test finds that line in the text it wrote. Records for bind come from reading real
@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 
 from dossier.errors import ManifestError
-from dossier.project.model import DEFAULT_RECIPE, bind, load_manifest, load_project
+from dossier.project import DEFAULT_RECIPE, bind, load_manifest, load_project
 
 from conftest import fixture_path
 
@@ -274,7 +274,7 @@ def test_documented_finding_codes_match_the_checker():
 
 def test_line_locator_survives_strings_comments_and_multiline_values():
     # The line of each key, found independently by searching the text for a unique marker.
-    from dossier.project.model import _Locator
+    from dossier.project.locator import Locator
 
     text = textwrap.dedent('''\
         a = "x # ] [ {"   # comment with = sign
@@ -302,7 +302,7 @@ def test_line_locator_survives_strings_comments_and_multiline_values():
     def line_with(s, nth=0):
         return [i + 1 for i, t in enumerate(lines) if s in t][nth]
 
-    loc = _Locator(text)
+    loc = Locator(text)
     assert loc.line_of(("b", 2, "d")) == line_with('d = "}"')
     assert loc.line_of(("lit key",)) == line_with("'lit key'")
     assert loc.line_of(("m",)) == line_with('m = """')

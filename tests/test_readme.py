@@ -19,7 +19,7 @@ def _toml_example() -> str:
 
 
 def test_readme_manifest_example_loads_against_the_demo_study(tmp_path):
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     if not (DEMO / "dossier.toml").exists():
         pytest.skip("demo study absent")
@@ -36,7 +36,7 @@ def test_readme_manifest_example_loads_against_the_demo_study(tmp_path):
 
 def test_readme_error_example_matches_the_real_message(tmp_path):
     from dossier.errors import ManifestError
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     if not (DEMO / "dossier.toml").exists():
         pytest.skip("demo study absent")

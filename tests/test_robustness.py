@@ -178,7 +178,7 @@ def test_every_broken_file_in_a_project_is_a_manifest_error_or_a_finding(broken,
     ManifestError naming the manifest line, or a Project whose checks report the file."""
     pytest.importorskip("dossier.project.checks", reason="dossier.project.checks not present yet")
     from dossier.project.checks import run_checks
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     folder, variants, before = broken
     good = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out")
@@ -363,8 +363,8 @@ def _broken_text(name: str) -> str:
 
 
 def test_the_good_manifest_loads(tmp_path):
-    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
-    from dossier.project.model import load_manifest
+    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
+    from dossier.project import load_manifest
 
     manifest = load_manifest(_manifest_project(tmp_path, GOOD))
     assert set(manifest.states) == {"a", "b"}  # so each broken variant differs from a loadable one
@@ -372,8 +372,8 @@ def test_the_good_manifest_loads(tmp_path):
 
 @pytest.mark.parametrize("name", sorted(BROKEN_MANIFESTS))
 def test_broken_manifest_is_one_line_error_or_finding(name, tmp_path):
-    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
-    from dossier.project.model import load_manifest, load_project
+    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
+    from dossier.project import load_manifest, load_project
 
     manifest = _manifest_project(tmp_path / "p", _broken_text(name))
     before = _tree(tmp_path)
@@ -528,7 +528,7 @@ def _structured():
 
 @pytest.fixture(scope="module")
 def fuzz_dir(tmp_path_factory):
-    pytest.importorskip("dossier.project.model", reason="dossier.project.model not present yet")
+    pytest.importorskip("dossier.project", reason="dossier.project not present yet")
     folder = tmp_path_factory.mktemp("fuzz")
     (folder / "a.out").write_text("stand-in output file: the loader checks only that it exists\n")
     (folder / "b.out").write_text("another\n")
@@ -536,7 +536,7 @@ def fuzz_dir(tmp_path_factory):
 
 
 def _load_only_manifest_errors(folder: Path, text: str) -> None:
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     path = folder / "dossier.toml"
     path.write_bytes(text.encode("utf-8", errors="replace"))
@@ -701,7 +701,7 @@ def analysable(tmp_path_factory):
 
 def _analyse_only_dossier_errors(folder: Path, records: dict, text: str) -> None:
     from dossier.analysis.assemble import analyse
-    from dossier.project.model import bind, load_manifest
+    from dossier.project import bind, load_manifest
 
     path = folder / "dossier.toml"
     path.write_text(text)
@@ -713,7 +713,7 @@ def _analyse_only_dossier_errors(folder: Path, records: dict, text: str) -> None
 
 def test_the_base_project_analyses(analysable):
     from dossier.analysis.assemble import analyse
-    from dossier.project.model import bind, load_manifest
+    from dossier.project import bind, load_manifest
 
     folder, records = analysable
     (folder / "dossier.toml").write_text(_project_toml(_BASE_PROJECT))

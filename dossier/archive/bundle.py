@@ -152,7 +152,7 @@ def _manifest_files(manifest_path: Path) -> list[Path]:
     Keeping the written form (not the resolved one) keeps each file at the same place
     relative to the manifest inside the archive, so the archived manifest finds them.
     """
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     manifest = load_manifest(manifest_path)
     base = Path(os.path.abspath(manifest_path)).parent
@@ -170,7 +170,7 @@ def _manifest_files(manifest_path: Path) -> list[Path]:
 
 def _absolute_in_manifest(manifest_path: Path, files: list[Path]) -> list[Path]:
     """Files the manifest names by an absolute path (a rebuild from the archive would not use the copy)."""
-    from dossier.project.model import load_manifest
+    from dossier.project import load_manifest
 
     labels = getattr(load_manifest(manifest_path), "file_labels", {}) or {}
     return sorted(Path(v) for v in labels.values() if isinstance(v, str) and Path(v).expanduser().is_absolute())

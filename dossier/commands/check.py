@@ -65,7 +65,7 @@ def format_findings(findings) -> str:
 
 def run(args) -> int:
     from dossier.project.checks import run_checks
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     prev = previous_sources(args.against) if args.against else None
     project = load_project(args.manifest, jobs=args.jobs, use_cache=not args.no_cache)

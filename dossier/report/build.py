@@ -202,7 +202,7 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     Raises a DossierError (manifest, read or build error) for bad input; the previous dossier
     in ``out_dir`` is then left untouched.
     """
-    from dossier.project.model import load_project
+    from dossier.project import load_project
 
     formats = parse_formats(formats)
     say = progress or (lambda text: None)
