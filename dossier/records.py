@@ -31,9 +31,12 @@ STATUS_WORDS = ("ok", "not-converged", "truncated", "failed", "unsupported", "un
 
 @dataclass(frozen=True)
 class Source:
-    path: str  # as given by the caller (relative paths stay relative)
-    sha256: str
+    path: str  # as given by the caller (relative paths stay relative); "FILE#jobN" names one job of a file
+    sha256: str  # of the file's bytes on disk (compressed, if it is)
     size_bytes: int
+    encoding: str | None = None  # how the text was got, when not plain UTF-8: "gzip", "UTF-16LE", "xz, UTF-16LE"
+    job: int | None = None  # 1-based job within a file holding several (Gaussian Link1, ORCA $new_job)
+    jobs_in_file: int = 1
 
 
 @dataclass

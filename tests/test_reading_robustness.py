@@ -141,14 +141,14 @@ def test_unreadable_file_and_folder_given_as_file(tmp_path, monkeypatch):
     # the tests run as root, for whom chmod 000 changes nothing: simulate the OS refusing
     target = tmp_path / "secret.out"
     target.write_bytes(fixture_path("XTB/basicXTB6.6.1/dvb_sp/dvb_sp.out").read_bytes())
-    real_open = open
+    real_open = os.open
 
     def refusing_open(path, *a, **k):
         if str(path) == str(target):
             raise PermissionError(13, "Permission denied", str(path))
         return real_open(path, *a, **k)
 
-    monkeypatch.setattr("builtins.open", refusing_open)
+    monkeypatch.setattr(os, "open", refusing_open)  # the reader opens with os.open (non-blocking)
     with pytest.raises(ReadError, match="permission denied") as exc:
         read(target, use_cache=False)
     assert str(target) in str(exc.value)
@@ -216,11 +216,11 @@ def test_cache_hit_damaged_and_stale_entries(tmp_path, monkeypatch):
 
     entries[0].write_text("{ damaged")
     assert read(src, cache_dir=cdir) == first  # damaged entry re-read (and rewritten)
-    json.loads(entries[0].read_text())
-    payload = json.loads(entries[0].read_text())
-    payload["key"] = "stale"
-    payload["record"]["energy_hartree"] = 1.0
-    entries[0].write_text(json.dumps(payload))
+    head_line, body = entries[0].read_text().split("\n", 1)
+    head = json.loads(head_line)
+    json.loads(body)
+    head["key"] = "stale"
+    entries[0].write_text(json.dumps(head) + "\n" + body.replace(repr(first.energy_hartree), "1.0"))
     assert read(src, cache_dir=cdir).energy_hartree == first.energy_hartree  # stale key ignored
     monkeypatch.setattr(rcache, "READER_VERSION", "another-reader")
     assert rcache.load(cdir, first.source.sha256) is None  # another reader version: not trusted

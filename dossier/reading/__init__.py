@@ -2,9 +2,14 @@
 
 Public API (the team contract):
 
-- ``read(path, *, use_cache=True, cache_dir=None) -> Calculation``; raises ReadError (one line
-  naming the file) for empty, binary, unreadable, non-QC or unsupported files. A cut-off or
-  failed run still gives a record, with ``status.word`` "truncated", "failed" or "not-converged".
+- ``read(path, *, use_cache=True, cache_dir=None, max_bytes=None) -> Calculation``; raises
+  ReadError (one line naming the file) for empty, binary, unreadable, oversized, non-QC or
+  unsupported files and for anything but a regular file (see dossier.reading.files: pipes and
+  devices are refused by type; gzip/bzip2/xz and UTF-16 logs are read). A cut-off or failed
+  run still gives a record, with ``status.word`` "truncated", "failed" or "not-converged".
+  ``path`` may name one job of a multi-job file as ``FILE#jobN``; a multi-job file named
+  without it gives its last job, with a problem saying so.
+- ``read_jobs(path, ...) -> list[Calculation]``: every job of a file (dossier.reading.jobs).
 - ``read_many(paths, *, jobs=None, executor=None, use_cache=True, cache_dir=None, progress=None)
   -> list[Calculation | ReadError]`` in input order.
 - ``find_outputs(folder) -> list[Path]``, recursive and safe against symlink loops.
@@ -22,54 +27,21 @@ from pathlib import Path
 
 from dossier.errors import ReadError
 from dossier.reading import cache as _cache
+from dossier.reading import files as _files
 from dossier.reading.cache import READER_VERSION, default_cache_dir
-from dossier.reading.detect import SUPPORTED, identify, looks_binary
+from dossier.reading.detect import SUPPORTED, identify
+from dossier.reading.jobs import job_name, split_jobs, split_name
 from dossier.reading.parallel import read_many
 from dossier.records import Calculation, Source
 
-__all__ = ["read", "read_many", "find_outputs", "READER_VERSION", "default_cache_dir", "OUTPUT_SUFFIXES"]
+__all__ = ["read", "read_jobs", "read_many", "find_outputs", "READER_VERSION", "default_cache_dir", "OUTPUT_SUFFIXES"]
 
-#: File name endings `find_outputs` collects from a folder.
-OUTPUT_SUFFIXES = (".out", ".log", ".output")
-
-
-def _load_bytes(path: Path, where: str) -> bytes:
-    try:
-        if path.is_dir():
-            raise ReadError("is a folder, not an output file", where)
-        with open(path, "rb") as fh:
-            return fh.read()
-    except ReadError:
-        raise
-    except FileNotFoundError:
-        if os.path.islink(path):
-            raise ReadError("broken symbolic link", where) from None
-        raise ReadError("no such file", where) from None
-    except PermissionError:
-        raise ReadError("permission denied (file is not readable)", where) from None
-    except OSError as exc:
-        if exc.errno == errno.ELOOP:
-            raise ReadError("symbolic link loop", where) from None
-        raise ReadError(f"cannot be read ({exc.strerror or exc})", where) from None
+#: File name endings `find_outputs` collects from a folder (also compressed: run.log.gz).
+OUTPUT_SUFFIXES = tuple(f"{s}{z}" for s in (".out", ".log", ".output") for z in ("", ".gz", ".bz2", ".xz"))
 
 
-def read(path, *, use_cache: bool = True, cache_dir=None) -> Calculation:
-    """Read one output file into a Calculation record (see module docstring)."""
-    where = str(path)
-    raw = _load_bytes(Path(path), where)
-    if not raw.strip():
-        raise ReadError("empty file" if not raw else "file holds only white space", where)
-    if looks_binary(raw[:65536]):
-        raise ReadError("binary data, not a text output file", where)
-    sha = hashlib.sha256(raw).hexdigest()
-    source = Source(path=where, sha256=sha, size_bytes=len(raw))
-    if use_cache:
-        hit = _cache.load(cache_dir, sha)
-        if hit is not None:
-            return dataclasses.replace(hit, source=source)
-    text = raw.decode("utf-8", errors="replace")
-    text = text.replace("\r\n", "\n")  # CRLF (Windows) copies: cclib's ORCA/xtb parsers miss blocks otherwise
-    del raw
+def _parse_jobs(text: str, where: str, source: Source) -> list[Calculation]:
+    """Every job of a log's text as its own record (one for a single-job file)."""
     program, unsupported = identify(text)
     if program is None:
         if unsupported:
@@ -79,15 +51,86 @@ def read(path, *, use_cache: bool = True, cache_dir=None) -> Calculation:
         raise ReadError("not a quantum-chemistry output (no known program banner found)", where)
     from dossier.reading.build import build_record
 
-    try:
-        calc = build_record(text, program, source)
-    except ReadError:
-        raise
-    except Exception as exc:  # noqa: BLE001 - one line for the user; --debug shows the chain
-        raise ReadError(f"{program} output could not be read ({type(exc).__name__}: {exc})", where) from exc
+    parts = split_jobs(text, program)
+    calcs = []
+    for part in parts:
+        src = source if len(parts) == 1 else dataclasses.replace(
+            source, path=job_name(source.path, part.number), job=part.number, jobs_in_file=len(parts))
+        try:
+            calcs.append(build_record(part.text, program, src, finished_by_next=part.finished_by_next,
+                                      program_head=text[:20000]))
+        except ReadError:
+            raise
+        except Exception as exc:  # noqa: BLE001 - one line for the user; --debug shows the chain
+            what = f"{program} output" if len(parts) == 1 else f"{program} job {part.number} of {len(parts)}"
+            raise ReadError(f"{what} could not be read ({type(exc).__name__}: {exc})", where) from exc
+    return calcs
+
+
+def read_jobs(path, *, use_cache: bool = True, cache_dir=None, max_bytes: int | None = None) -> list[Calculation]:
+    """Every job of one output file as its own record, in file order (one for most files).
+
+    A file holding several jobs (Gaussian --Link1--, ORCA $new_job, runs appended to one file)
+    gives records whose ``source.path`` is ``PATH#jobN`` and ``source.job`` N.
+    """
+    where = str(path)
     if use_cache:
-        _cache.store(cache_dir, calc)
+        _cache.check_folder(cache_dir)
+    raw = _files.load_bytes(Path(path), where, max_bytes)
+    sha, size = hashlib.sha256(raw).hexdigest(), len(raw)
+    if use_cache:
+        hits = _cache.load_jobs(cache_dir, sha)
+        if hits is not None:
+            return [_with_source(c, where, sha, size) for c in hits]
+    if not raw.strip():
+        raise ReadError("empty file" if not raw else "file holds only white space", where)
+    content, packed = _files.decompress(raw, where, max_bytes)
+    if packed and not content.strip():
+        raise ReadError(f"{packed}-compressed file holds nothing (or only white space)", where)
+    text, coding = _files.decode(content, where)
+    del raw, content
+    text = text.replace("\r\n", "\n")  # CRLF (Windows) copies: cclib's ORCA/xtb parsers miss blocks otherwise
+    encoding = ", ".join(x for x in (packed, coding) if x) or None
+    source = Source(path=where, sha256=sha, size_bytes=size, encoding=encoding)
+    calcs = _parse_jobs(text, where, source)
+    if use_cache:
+        _cache.store(cache_dir, calcs)
+    return calcs
+
+
+def _with_source(calc: Calculation, where: str, sha: str, size: int) -> Calculation:
+    """A cached record with the path it is read under now (the cache is keyed by content)."""
+    src = calc.source
+    path = job_name(where, src.job) if src.jobs_in_file > 1 and src.job else where
+    return dataclasses.replace(calc, source=dataclasses.replace(src, path=path, sha256=sha, size_bytes=size))
+
+
+def pick_job(calcs: list[Calculation], where: str, job: int | None) -> Calculation:
+    """The record of job `job` (1-based) of a file, or for None the last job, noting the others."""
+    if job is not None:
+        if job > len(calcs):
+            raise ReadError(f"has no job {job}: the file holds {len(calcs)} job(s)", where)
+        calc = calcs[job - 1]
+        return dataclasses.replace(calc, source=dataclasses.replace(calc.source, path=job_name(where, job)))
+    calc = calcs[-1]
+    if len(calcs) == 1:
+        return calc
+    n = len(calcs)
+    calc = dataclasses.replace(calc, source=dataclasses.replace(calc.source, path=where),
+                               problems=list(calc.problems))
+    calc.problems.insert(0, f"the file holds {n} jobs; this record is the last one (job {n}). "
+                            f"Name {Path(where).name}#job1 ... #job{n} to use another")
     return calc
+
+
+def read(path, *, use_cache: bool = True, cache_dir=None, max_bytes: int | None = None) -> Calculation:
+    """Read one output file (or one job of it, ``FILE#jobN``) into a Calculation record."""
+    where = str(path)
+    file_part, job = split_name(where)
+    if job is not None and os.path.lexists(where):
+        file_part, job = where, None  # a file really named like that
+    calcs = read_jobs(file_part, use_cache=use_cache, cache_dir=cache_dir, max_bytes=max_bytes)
+    return pick_job(calcs, file_part, job)
 
 
 def find_outputs(folder, *, notes: list[str] | None = None) -> list[Path]:

@@ -7,6 +7,7 @@ import re
 import numpy as np
 
 from dossier.reading.cclib_adapter import parse_with_cclib, to_calculation
+from dossier.reading.jobs import ORCA_NORMAL_END
 from dossier.reading.status import run_status
 from dossier.reading.supplements import BY_PROGRAM
 from dossier.records import Calculation, Source
@@ -15,11 +16,16 @@ from dossier.records import Calculation, Source
 LEVEL_RANK = ("xtb", "scf", "mp2", "mp3", "mp4(sdq)", "mp4", "ccsd", "ccsd(t)")
 
 
-def build_record(text: str, program: str, source: Source, *, trim_for_cclib: bool = True) -> Calculation:
+def build_record(text: str, program: str, source: Source, *, trim_for_cclib: bool = True,
+                 finished_by_next: bool = False, program_head: str | None = None) -> Calculation:
+    """The record of one job's text. `finished_by_next`: a later job of the same ORCA compound
+    run started, so this one ended normally (dossier.reading.jobs); `program_head`: the start of
+    the whole file, where the program prints its version."""
     # A cut-off log may end inside a line (a number cut in half): parse whole lines only.
     cut = text.rfind("\n")
     parse_text = text if text.endswith("\n") or cut < 0 else text[: cut + 1]
-    orca6 = program == "ORCA" and re.search(r"Program Version 6\.", text[:20000]) is not None
+    head = program_head if program_head is not None else text[:20000]
+    orca6 = program == "ORCA" and re.search(r"Program Version 6\.", head) is not None
     supplement = BY_PROGRAM[program]
     trim = getattr(supplement, "for_cclib", None) if trim_for_cclib else None
     data, notes, skipped = parse_with_cclib(trim(parse_text) if trim else parse_text, program, orca6=orca6)
@@ -31,7 +37,8 @@ def build_record(text: str, program: str, source: Source, *, trim_for_cclib: boo
         calc.problems.append(
             "cclib skipped section(s) it could not parse: " + "; ".join(f"'{line}' ({err})" for line, err in unexplained[:3])
         )
-    calc.status = run_status(program, text, is_optimization="optimization" in calc.job_kinds)
+    status_text = f"{text}\n{ORCA_NORMAL_END}\n" if finished_by_next else text
+    calc.status = run_status(program, status_text, is_optimization="optimization" in calc.job_kinds)
     finalize(calc)
     return calc
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 import os
 import sys
 import time
+from pathlib import Path
 from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
 
 from dossier.errors import ReadError
@@ -25,23 +26,30 @@ def _read_one(path, use_cache, cache_dir):
 
 
 def _cached_only(path, cache_dir):
-    """The cached record when the file's content is already cached, else None (no parsing)."""
-    import dataclasses
+    """The cached record when the file's content is already cached, else None (no parsing).
+
+    The bytes are got the safe way (regular files only, size cap): a pipe named by a manifest
+    must not hang the cache look-up either. Any problem means "not cached": the full read
+    then reports it.
+    """
     import hashlib
 
-    from dossier.reading import cache
-    from dossier.records import Source
+    from dossier.reading import _with_source, cache, files, pick_job
+    from dossier.reading.jobs import split_name
 
+    where = str(path)
+    file_part, job = split_name(where)
+    if job is not None and os.path.lexists(where):
+        file_part, job = where, None
     try:
-        with open(path, "rb") as fh:
-            raw = fh.read()
-    except OSError:
+        raw = files.load_bytes(Path(file_part), file_part)
+        sha = hashlib.sha256(raw).hexdigest()
+        hits = cache.load_jobs(cache_dir, sha)
+        if hits is None:
+            return None
+        return pick_job([_with_source(c, file_part, sha, len(raw)) for c in hits], file_part, job)
+    except (ReadError, OSError):
         return None
-    sha = hashlib.sha256(raw).hexdigest()
-    hit = cache.load(cache_dir, sha)
-    if hit is None:
-        return None
-    return dataclasses.replace(hit, source=Source(path=str(path), sha256=sha, size_bytes=len(raw)))
 
 
 def default_jobs() -> int:
@@ -79,6 +87,10 @@ def read_many(paths, *, jobs=None, executor: Executor | None = None, use_cache=T
     """Read every path; list of Calculation or ReadError, in input order (errors returned)."""
     from dossier.reading import read
 
+    from dossier.reading import cache
+
+    if use_cache:
+        cache.check_folder(cache_dir)  # refused once here, before any worker starts
     paths = list(paths)
     total = len(paths)
     results: list = [None] * total
