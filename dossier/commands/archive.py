@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import sys
 
-from dossier.archive.bundle import write_archive
+from dossier.archive.write import write_archive
 
 HELP = "pack the outputs, inputs, manifest, built dossier, checksums and environment into one .tar.gz"
 
@@ -21,7 +21,11 @@ def add_arguments(parser) -> None:
         help="comma-separated formats of a fresh build (default: the build's own default, all formats)",
     )
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers for a fresh build")
-    parser.add_argument("--no-cache", action="store_true", help="read every output afresh (no record cache)")
+    parser.add_argument("--no-cache", action="store_true",
+                        help="accepted for old scripts: an archive always reads every output afresh")
+    parser.add_argument("--sign", metavar="KEY", default=None,
+                        help="sign the archive with this SSH private key (ssh-keygen -Y sign); "
+                             "the signature is written beside it as FILE.tar.gz.sig")
     parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
 
 
@@ -35,7 +39,11 @@ def run(args) -> int:
         formats = tuple(f.strip() for f in args.formats.split(",") if f.strip())
     result = write_archive(
         args.manifest, args.out, build_dir=args.build, formats=formats, jobs=args.jobs,
-        use_cache=not args.no_cache, progress=progress,
+        progress=progress, sign_key=args.sign,
     )
+    for item in result.left_out:  # always shown, even with --quiet: the archive is not the whole project
+        print(f"archive: left out {item['path']}: {item['reason']}", file=sys.stderr)
     print(f"wrote {result.path} ({len(result.members)} files); check it with: dossier verify {result.path}")
+    if result.signature is not None:
+        print(f"signed: {result.signature}; check it with: dossier verify {result.path} --signer KEY.pub")
     return 0

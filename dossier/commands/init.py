@@ -12,7 +12,9 @@ import sys
 import tempfile
 from pathlib import Path
 
-from dossier.errors import DossierError, ManifestError
+from dossier.errors import DossierError, ManifestError, ReadError
+from dossier.records import Calculation
+from dossier.report.targets import INPUT_SUFFIXES, check_file_target
 
 HELP = "draft a project manifest (dossier.toml) from a folder of output files"
 
@@ -25,9 +27,28 @@ def add_arguments(parser) -> None:
     parser.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
 
 
+def _every_job(paths, results, use_cache: bool) -> list[tuple[Path, Calculation | ReadError]]:
+    """(path, record) per job: a file holding several jobs gives one entry per job, ``FILE#jobN``."""
+    from dossier.reading import read_jobs
+
+    out: list[tuple[Path, Calculation | ReadError]] = []
+    for p, r in zip(paths, results):
+        if isinstance(r, Calculation) and r.source.jobs_in_file > 1:
+            try:
+                out += [(Path(c.source.path), c) for c in read_jobs(p, use_cache=use_cache)]
+                continue
+            except ReadError as exc:
+                r = exc
+        out.append((p, r))
+    return out
+
+
 def write_atomically(path: Path, text: str) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    except OSError as exc:
+        raise DossierError(f"cannot be written ({exc.strerror or exc})", where=str(path)) from None
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as fh:
             fh.write(text)
@@ -46,14 +67,18 @@ def run(args) -> int:
     if not folder.is_dir():
         raise DossierError("not a folder; give the folder that holds the output files", where=str(folder))
     out = Path(args.out) if args.out else folder / "dossier.toml"
-    if out.exists() and not args.force:
+    if os.path.lexists(out) and not args.force:
         raise ManifestError("already exists; not replaced (use --force to replace it, or --out FILE)", where=str(out))
     notes: list[str] = []
     paths = [Path(os.path.abspath(p)) for p in find_outputs(folder, notes=notes)]
     if not paths:
         raise DossierError("no output files (*.out, *.log, *.output) found in this folder", where=str(folder))
-    results = read_many(paths, jobs=args.jobs, use_cache=not args.no_cache)
-    draft = draft_manifest(folder.resolve().name, Path(os.path.abspath(out)).parent, list(zip(paths, results)))
+    # never over an output or an input beside one, a device, a pipe or a folder, even with --force
+    inputs = [p for p in paths + [p.with_suffix(s) for p in paths for s in INPUT_SUFFIXES] if os.path.lexists(p)]
+    check_file_target(out, inputs, hint="give the manifest's file name")
+    results = _every_job(paths, read_many(paths, jobs=args.jobs, use_cache=not args.no_cache), not args.no_cache)
+    draft = draft_manifest(folder.resolve().name, Path(os.path.abspath(out)).parent, results)
+    check_file_target(out, inputs, hint="give the manifest's file name")  # again: the reading took a while
     write_atomically(out, draft.text)
     print(f"wrote {out}: {draft.n_states} state(s) from {len(paths)} file(s); {draft.n_guesses} guess(es) to confirm",
           file=sys.stderr)

@@ -3,7 +3,8 @@ from __future__ import annotations
 
 import sys
 
-from dossier.archive.bundle import CHECKSUMS_NAME, verify_archive
+from dossier.archive.common import CHECKSUMS_NAME
+from dossier.archive.verify import verify_archive
 
 HELP = "check every file of a dossier archive against its checksum list (and optionally rebuild it)"
 
@@ -14,6 +15,9 @@ def add_arguments(parser) -> None:
         "--rebuild", action="store_true",
         help="also rebuild the dossier from the archived files (in a temporary folder) and compare dossier.json",
     )
+    parser.add_argument("--signer", metavar="KEY.pub", default=None,
+                        help="also require ARCHIVE.sig to be a valid SSH signature by this public key "
+                             "(or by a key of this OpenSSH allowed-signers file)")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers for the rebuild")
 
 
@@ -22,11 +26,13 @@ def run(args) -> int:
         print(f"verify: {text}", file=sys.stderr, flush=True)
 
     report = verify_archive(args.archive, rebuild=args.rebuild, jobs=args.jobs,
-                            progress=progress if args.rebuild else None)
+                            progress=progress if args.rebuild else None, signer=args.signer)
     for line in report.lines():
         print(line)
     if report.ok:
         extra = "; the rebuilt dossier.json agrees with the archived one" if report.rebuilt else ""
+        if report.signature:
+            extra += f"; signature good ({report.signature})"
         print(f"ok: all {report.checked} files match {CHECKSUMS_NAME}{extra}")
         return 0
     n = (len(report.refused) + len(report.missing) + len(report.altered) + len(report.unexpected)

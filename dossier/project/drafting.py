@@ -82,7 +82,13 @@ def _n_imaginary(r: Calculation, threshold: float) -> int:
 
 
 def _base_name(path: Path) -> str:
-    stem = path.stem.lower()
+    """A state name from a file name: run_opt.log.gz -> run; run.log#job2 -> run_job2."""
+    from dossier.reading.jobs import split_name
+
+    name, job = split_name(path.name.lower())
+    for packed in (".gz", ".bz2", ".xz"):
+        name = name.removesuffix(packed)
+    stem = Path(name).stem + (f"_job{job}" if job else "")
     for suffix in _STEM_SUFFIXES:
         if stem.endswith(suffix) and len(stem) > len(suffix):
             stem = stem[: -len(suffix)]

@@ -16,7 +16,6 @@ from __future__ import annotations
 
 import bz2
 import errno
-import gzip
 import lzma
 import os
 import stat

@@ -83,16 +83,14 @@ def complete_data(data: dict, project) -> dict:
 # -- output folder handling -----------------------------------------------------------------
 
 def _check_out_dir(out_dir: Path, manifest_path: Path) -> None:
+    """Before any reading: the folder may be replaced as a whole (see dossier.report.targets)."""
+    from dossier.report.targets import check_folder_target, project_inputs
+
     manifest_dir = manifest_path.parent
     if out_dir == manifest_dir or out_dir in manifest_dir.parents:
         raise BuildError("the output folder would contain the manifest and its outputs; choose a folder of its own",
                          where=str(out_dir))
-    if out_dir.exists():
-        if not out_dir.is_dir():
-            raise BuildError("exists and is not a folder", where=str(out_dir))
-        if any(out_dir.iterdir()) and not (out_dir / MARKER).is_file():
-            raise BuildError(f"exists, is not empty and is not a dossier build (no {MARKER} file); "
-                             "choose another --out or empty it", where=str(out_dir))
+    check_folder_target(out_dir, project_inputs(manifest_path), MARKER)
 
 
 def _pid_alive(pid: int) -> bool:
@@ -240,12 +238,15 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
                          n_errors=sum(1 for c in checks if c.get("severity") == "error"),
                          n_warnings=sum(1 for c in checks if c.get("severity") == "warning"))
 
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    _remove_stale_temporaries(out_dir)
     tmp = out_dir.parent / f".{out_dir.name}.building-{os.getpid()}"
-    if tmp.exists():
-        shutil.rmtree(tmp)
-    tmp.mkdir()
+    try:
+        out_dir.parent.mkdir(parents=True, exist_ok=True)
+        _remove_stale_temporaries(out_dir)
+        if tmp.exists():
+            shutil.rmtree(tmp)
+        tmp.mkdir()
+    except OSError as exc:
+        raise BuildError(f"cannot create the output folder ({exc.strerror or exc})", where=str(out_dir)) from None
     try:
         written = _write_formats(data, tmp, formats, manifest_path=manifest_path, templates_dir=templates_dir,
                                  png=png, numbered_atoms=numbered_atoms, say=say, timings=timings)
