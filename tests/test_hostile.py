@@ -19,12 +19,13 @@ from contextlib import contextmanager
 
 import pytest
 
-from conftest import fixture_path
+from conftest import ROOT, fixture_path
 from dossier.errors import DossierError, ReadError
 from dossier.reading import cache as rcache
 from dossier.reading import find_outputs, read, read_jobs, read_many
 
 SEED = 16
+ROOT_TEMPLATES = ROOT / "templates"
 
 G_OPT = "Gaussian/basicGaussian16/dvb_gopt.out"
 G_CATION = "Gaussian/basicGaussian16/dvb_un_sp.log"
@@ -422,3 +423,161 @@ def test_signed_archive_verifies_with_its_key_only(small, tmp_path):
     unsigned = tmp_path / "unsigned.tar.gz"
     write_archive(small["manifest"], unsigned, build_dir=small["build"])
     assert any("no signature" in p for p in verify_archive(unsigned, signer=f"{mine}.pub").problems)
+
+
+# -- item 5: a cut-off job flows through every stage ---------------------------------------------
+
+@pytest.fixture(scope="module")
+def cut_build(tmp_path_factory):
+    """A pathway whose transition-state optimisation was killed by the queue (the Gaussian dvb
+    optimisation cut at a seeded point between its 2nd and last SCF cycle), built in every text format."""
+    from dossier.report.build import build_dossier
+
+    root = tmp_path_factory.mktemp("cut-project")
+    text = _text(G_OPT)
+    rng = random.Random(SEED)
+    first = text.index("SCF Done")
+    cut = rng.randrange(text.index("SCF Done", first + 1), text.rindex("SCF Done"))
+    (root / "ts_opt.log").write_text(text[:cut])
+    nw = fixture_path("NWChem/basicNWChem7.0/dvb_gopt_ks.out").parent
+    qc = fixture_path("QChem/basicQChem5.4/dvb_gopt.out").parent
+    (root / "dossier.toml").write_text(f'''
+[project]
+title = "cut-off transition state"
+[sites]
+vinyl_a = [11, 12, 15, 16]
+vinyl_b = [13, 14, 17, 18]
+[states."=cmd|' /C calc'!A0"]
+geometry = "{nw}/dvb_gopt_ks.out"
+frequencies = "{nw}/dvb_ir.out"
+[states.ts]
+role = "transition-state"
+geometry = "ts_opt.log"
+[states."-1 anion"]
+geometry = "{qc}/dvb_gopt.out"
+frequencies = "{qc}/dvb_ir.out"
+[[pathways]]
+name = "+SUM(A1:A9)"
+reactant = "=cmd|' /C calc'!A0"
+transition_state = "ts"
+product = "-1 anion"
+donor_site = "vinyl_a"
+acceptor_site = "vinyl_b"
+''')
+    result = build_dossier(root / "dossier.toml", root / "out", formats=("json", "xyz", "csv", "tex", "bib", "html"),
+                           jobs=1, use_cache=False)
+    return result
+
+
+def test_cut_off_ts_builds_and_says_what_it_is(cut_build):
+    html = (cut_build.out_dir / "dossier.html").read_text()
+    assert "Not a finished result: geometry job truncated" in html
+    assert "No final coordinates of ts" in html
+    assert any(c["code"] == "RUN-TRUNCATED" for c in cut_build.data["checks"])
+
+
+def test_xyz_is_well_formed_and_names_the_state_left_out(cut_build):
+    lines = (cut_build.out_dir / "states.xyz").read_text().splitlines()
+    i, frames = 0, []
+    while i < len(lines):  # the XYZ format: count, comment, that many atom lines (from memory)
+        n = int(lines[i])
+        atoms = lines[i + 2: i + 2 + n]
+        assert len(atoms) == n and all(len(a.split()) == 4 for a in atoms)
+        frames.append(lines[i + 1])
+        i += 2 + n
+    assert len(frames) == 2 and "left out: ts (truncated" in frames[0]
+
+
+def test_xyz_without_any_coordinates_is_one_empty_frame():
+    from dossier.report.exports import xyz_text
+
+    text = xyz_text({"states": [{"name": "ts", "elements": ["H", "H"], "coordinates_angstrom": [],
+                                 "status": {"geometry": "failed"}}]})
+    assert text.splitlines() == ["0", "left out: ts (failed: no final coordinates)"]
+
+
+# -- item 4: CSV cells, the page's policy, CSS seen through its escapes ------------------------------
+
+def test_csv_cells_cannot_become_formulas_and_numbers_stay_numbers(cut_build):
+    import csv
+
+    rows = list(csv.reader((cut_build.out_dir / "energies.csv").open()))
+    header, body = rows[0], rows[1:]
+    cells = [c for r in body for c in r]
+    # OWASP "CSV Injection": cells starting with = + - @ tab CR are formulas to a spreadsheet
+    assert not any(c.startswith(("=", "+", "-", "@", "\t", "\r")) and not _is_number(c) for c in cells)
+    assert "'=cmd|' /C calc'!A0" in cells and "'-1 anion" in cells and "'+SUM(A1:A9)" in cells
+    values = [r[header.index("value_kj_mol")] for r in body]
+    assert values and all(_is_number(v) for v in values)
+    assert any(float(v) < 0 for v in values) or any(float(v) > 0 for v in values)
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def test_neutral_cell_follows_owasp():
+    from dossier.report.exports import _num
+
+    for bad in ("=1+1", "+1", "-1 anion", "@SUM(1)", "\tx", "\rx"):
+        assert _num(bad) == "'" + bad
+    assert _num(-1.5) == "-1.5" and _num(-3) == "-3" and _num("anion") == "anion"
+
+
+def test_html_forbids_every_fetch_and_figures_still_show(cut_build):
+    import html.parser
+
+    page = (cut_build.out_dir / "dossier.html").read_text()
+
+    class Head(html.parser.HTMLParser):
+        policies: list[str] = []
+
+        def handle_starttag(self, tag, attrs):
+            a = dict(attrs)
+            if tag == "meta" and (a.get("http-equiv") or "").lower() == "content-security-policy":
+                self.policies.append(a.get("content") or "")
+
+    p = Head()
+    p.feed(page)
+    assert p.policies, "no Content-Security-Policy"
+    policy = {d.split()[0]: d.split()[1:] for d in p.policies[0].split(";") if d.strip()}
+    assert policy["default-src"] == ["'none'"]  # everything not named below: no fetch at all
+    allowed = [src for srcs in policy.values() for src in srcs]
+    assert not any(s.startswith(("http", "file", "*", "'self'", "blob")) for s in allowed)
+    assert policy["img-src"] == ["data:"]
+    assert page.count("<svg") >= 1  # the figures are inline, so the policy leaves them visible
+    assert page.index("Content-Security-Policy") < page.index("<style")
+
+
+@pytest.mark.parametrize("css", [
+    r"body { background: \75 rl(http://example.invalid/x.png) }",
+    r"body { background: u\72 l('http://example.invalid/x.png') }",
+    'body { background: image-set("http://example.invalid/x.png" 1x) }',
+    '@\\69mport "http://example.invalid/a.css";',
+    "body { background: URL(//example.invalid/x) }",
+])
+def test_css_escapes_do_not_hide_an_outside_url(cut_build, tmp_path, css):
+    from dossier.errors import BuildError
+    from dossier.report.render import css_references, outside_references, render_html
+
+    assert any("example.invalid" in r for r in css_references(css))
+    assert outside_references(f"<style>{css}</style>")
+    if not css.startswith("@"):
+        decl = css.split("{")[-1].rstrip("} ")
+        q = "'" if '"' in decl else '"'
+        assert outside_references(f"<p style={q}{decl}{q}>x</p>")
+    (tmp_path / "style.css").write_text(css)
+    with pytest.raises(BuildError, match="example.invalid"):
+        render_html(cut_build.data, [], templates_dir=tmp_path)
+
+
+def test_a_user_template_without_the_policy_gets_it(cut_build, tmp_path):
+    from dossier.report.render import CSP_META, render_html
+
+    base = (ROOT_TEMPLATES / "base.html").read_text()
+    (tmp_path / "base.html").write_text(base.replace(CSP_META, ""))
+    assert CSP_META in render_html(cut_build.data, [], templates_dir=tmp_path)

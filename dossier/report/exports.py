@@ -98,13 +98,29 @@ def write_json(data: dict, path: Path) -> Path:
 
 # -- CSV -----------------------------------------------------------------------------------
 
+#: First characters that make a spreadsheet read a cell as a formula (OWASP, "CSV Injection":
+#: equals, plus, minus, at, tab, carriage return).
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def neutral_cell(text: str) -> str:
+    """A text cell a spreadsheet shows as text: one leading apostrophe before a formula start, as
+    the OWASP CSV-injection guidance says (the csv writer quotes the cell and doubles quotes)."""
+    return f"'{text}" if text.startswith(FORMULA_STARTS) else text
+
+
 def _num(x: Any) -> str:
+    """A cell: numbers as numbers (a negative number stays -1.5), text neutralised (neutral_cell)."""
     if x is None:
         return ""
+    if isinstance(x, bool):
+        return str(x)
     if isinstance(x, float):
         c = canonical(x)
         return "" if c is None else repr(c)
-    return str(x)
+    if isinstance(x, int):
+        return str(x)
+    return neutral_cell(str(x))
 
 
 def _csv(header: list[str], rows: Iterable[list[Any]]) -> str:
@@ -192,20 +208,39 @@ def state_energy_hartree(state: dict) -> tuple[float | None, str | None]:
     return None, None
 
 
+def _xyz_usable(st: dict) -> bool:
+    els, xyz = st.get("elements") or [], st.get("coordinates_angstrom") or []
+    return bool(els) and len(xyz) == len(els) and all(
+        isinstance(c, (list, tuple)) and len(c) == 3 and all(isinstance(v, (int, float)) and math.isfinite(v) for v in c)
+        for c in xyz)
+
+
 def xyz_text(data: dict) -> str:
-    lines = []
+    """One XYZ frame per state with a full set of finite coordinates. A state without them (a
+    cut-off or failed job) is left out, and named in the comment line of the first frame (a
+    frame of 0 atoms carries that comment when no state has coordinates), so the file is always
+    well-formed: every frame's atom count matches its atom lines."""
+    frames, left_out = [], []
     for st in data.get("states", []):
-        els, xyz = st.get("elements") or [], st.get("coordinates_angstrom") or []
-        if not els:
+        name = re.sub(r"\s+", "_", str(st.get("name")))
+        if not _xyz_usable(st):
+            if st.get("elements"):
+                why = (st.get("status") or {}).get("geometry") or "no coordinates"
+                left_out.append(f"{name} ({why}: no final coordinates)")
             continue
         e, level = state_energy_hartree(st)
-        name = re.sub(r"\s+", "_", st["name"])
         comment = f"{name} E={e:.8f} Eh" if e is not None else f"{name} E=unknown"
         if level:
             comment += f" ({level}: {st.get('level_of_theory') or 'level unknown'})"
-        lines.append(str(len(els)))
-        lines.append(comment.replace("\n", " "))
-        lines += [f"{el:<2s} {x:14.8f} {y:14.8f} {z:14.8f}" for el, (x, y, z) in zip(els, xyz)]
+        rows = [f"{el:<2s} {x:14.8f} {y:14.8f} {z:14.8f}" for el, (x, y, z) in zip(st["elements"], st["coordinates_angstrom"])]
+        frames.append([str(len(rows)), comment, *rows])
+    if left_out:
+        note = "left out: " + ", ".join(left_out)
+        if frames:
+            frames[0][1] += f"; {note}"
+        else:
+            frames.append(["0", note])
+    lines = [line.replace("\n", " ").replace("\r", " ") for frame in frames for line in frame]
     return "\n".join(lines) + ("\n" if lines else "")
 
 

@@ -395,7 +395,18 @@ def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | N
     except (TypeError, ValueError, KeyError, AttributeError, ArithmeticError) as exc:
         raise BuildError(f"template failed on the data ({type(exc).__name__}: {exc})",
                          where=str(templates_dir or TEMPLATES_DIR)) from exc
-    return embed_local_images(text, templates_dir)
+    return with_csp(embed_local_images(text, templates_dir))
+
+
+def with_csp(text: str) -> str:
+    """The page with the dossier's Content-Security-Policy first in its head (added when a user
+    template left it out; a browser applies every policy a page states, so ours always holds)."""
+    if CSP_META in text:
+        return text
+    m = re.search(r"<head[^>]*>", text, re.I)
+    if m is None:
+        raise BuildError("template has no <head>; the dossier's Content-Security-Policy needs one")
+    return text[: m.end()] + "\n" + CSP_META + text[m.end():]
 
 
 # -- self-containment -----------------------------------------------------------------------
@@ -403,7 +414,53 @@ def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | N
 _URL_ATTRS = {"src", "href", "xlink:href", "srcset", "poster", "data", "action", "formaction", "background",
               "cite", "longdesc", "usemap", "manifest", "icon", "ping", "lowsrc", "dynsrc"}
 _FORBIDDEN_TAGS = {"script", "iframe", "frame", "object", "embed", "base", "link", "applet", "portal"}
-_CSS_URL = re.compile(r"url\(\s*(['\"]?)(.*?)\1\s*\)|@import\s+(['\"])(.*?)\3", re.I | re.S)
+#: The policy every dossier page carries: nothing is fetched, from the network or from files
+#: (the stylesheet and figures are inline; images are data: URIs).
+CSP = ("default-src 'none'; img-src data:; font-src data:; style-src 'unsafe-inline'; "
+       "base-uri 'none'; form-action 'none'")
+CSP_META = f'<meta http-equiv="Content-Security-Policy" content="{CSP}">'
+#: CSS functions whose string arguments are fetched
+_CSS_FETCHING = {"url", "src", "image", "image-set", "-webkit-image-set", "cross-fade", "element"}
+
+
+def _css_walk(nodes, refs: list[str]) -> None:
+    import tinycss2.ast as ast
+
+    for node in nodes or ():
+        if isinstance(node, ast.URLToken):
+            refs.append(node.value.strip())
+        elif isinstance(node, ast.FunctionBlock):
+            if node.lower_name in _CSS_FETCHING:
+                refs += [a.value.strip() for a in node.arguments if isinstance(a, (ast.StringToken, ast.URLToken))]
+            _css_walk(node.arguments, refs)
+        elif isinstance(node, ast.AtRule):
+            if node.lower_at_keyword == "import":
+                refs += [t.value.strip() for t in node.prelude if isinstance(t, (ast.StringToken, ast.URLToken))]
+            _css_walk(node.prelude, refs)
+            _css_walk(node.content, refs)
+        elif isinstance(node, (ast.QualifiedRule, ast.Declaration)):
+            _css_walk(getattr(node, "prelude", None), refs)
+            _css_walk(getattr(node, "content", None) if isinstance(node, ast.QualifiedRule) else node.value, refs)
+        elif isinstance(node, (ast.SquareBracketsBlock, ast.ParenthesesBlock, ast.CurlyBracketsBlock)):
+            _css_walk(node.content, refs)
+
+
+def css_references(text: str, *, inline: bool = False) -> list[str]:
+    """Every URL a stylesheet (or a style="" attribute, `inline`) would fetch, found by a real CSS
+    tokenizer (tinycss2), so escapes such as ``\\75 rl(...)`` for ``url(...)`` are seen through."""
+    import tinycss2
+
+    refs: list[str] = []
+    if inline:
+        nodes = tinycss2.parse_blocks_contents(text, skip_comments=True, skip_whitespace=True)
+        for node in nodes:
+            if node.type == "declaration":
+                _css_walk(node.value, refs)
+            else:
+                _css_walk([node], refs)
+    else:
+        _css_walk(tinycss2.parse_stylesheet(text, skip_comments=True, skip_whitespace=True), refs)
+    return refs
 
 
 class _RefCollector(html.parser.HTMLParser):
@@ -426,7 +483,7 @@ class _RefCollector(html.parser.HTMLParser):
             if k in _URL_ATTRS:
                 self.refs.append((f"{tag} {k}", v.strip()))
             elif k == "style":
-                self._css(v)
+                self._css(v, inline=True)
             elif k.startswith("on"):
                 self.tags.append(f"{tag} {k} handler")
         self._in_style = tag == "style"
@@ -438,9 +495,8 @@ class _RefCollector(html.parser.HTMLParser):
         if self._in_style:
             self._css(data)
 
-    def _css(self, text):
-        for m in _CSS_URL.finditer(text):
-            self.refs.append(("css url", (m.group(2) or m.group(4) or "").strip()))
+    def _css(self, text, inline=False):
+        self.refs += [("css url", ref) for ref in css_references(text, inline=inline)]
 
 
 def _inside_ok(value: str) -> bool:
