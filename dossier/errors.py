@@ -36,3 +36,11 @@ class BuildError(DossierError):
 
 class ArchiveError(DossierError):
     """An archive could not be written, or failed verification."""
+
+
+class ChecksFailed(BuildError):
+    """`dossier build` refused to write a dossier because `check` found errors (use --draft to build anyway)."""
+
+    def __init__(self, reason: str, errors: list[dict], where: str | None = None):
+        super().__init__(reason, where=where)
+        self.errors = errors

@@ -149,7 +149,7 @@ def no_figures(monkeypatch):
 
 def test_rebuild_after_a_manifest_edit_reads_no_file_again(project, tmp_path, monkeypatch):
     out = tmp_path / "out"
-    first = build.build_dossier(project, out, formats=("json",), jobs=1)
+    first = build.build_dossier(project, out, formats=("json",), jobs=1, draft=True)
     assert first.data["project"]["title"] == "Fixture <script>alert(1)</script>"
     project.write_text(project.read_text().replace("Fixture <script>alert(1)</script>", "Edited title"))
 
@@ -160,15 +160,15 @@ def test_rebuild_after_a_manifest_edit_reads_no_file_again(project, tmp_path, mo
 
     monkeypatch.setattr(reading_build, "build_record", refuse)
     lines: list[str] = []
-    second = build.build_dossier(project, out, formats=("json",), jobs=1, progress=lines.append)
+    second = build.build_dossier(project, out, formats=("json",), jobs=1, progress=lines.append, draft=True)
     assert second.data["project"]["title"] == "Edited title"
     assert json.loads((out / "dossier.json").read_text())["project"]["title"] == "Edited title"
     assert any("reading" in line for line in lines) and any("analysing" in line for line in lines)
 
 
 def test_no_change_rebuild_is_byte_identical(project, tmp_path):
-    a = build.build_dossier(project, tmp_path / "a", formats=("json", "csv", "xyz", "tex", "bib"), jobs=1)
-    b = build.build_dossier(project, tmp_path / "b", formats=("json", "csv", "xyz", "tex", "bib"), jobs=1)
+    a = build.build_dossier(project, tmp_path / "a", formats=("json", "csv", "xyz", "tex", "bib"), jobs=1, draft=True)
+    b = build.build_dossier(project, tmp_path / "b", formats=("json", "csv", "xyz", "tex", "bib"), jobs=1, draft=True)
     assert _tree(tmp_path / "a").keys() == _tree(tmp_path / "b").keys()
     for name in a.files:
         assert a.files[name].read_bytes() == b.files[name].read_bytes(), name
@@ -179,7 +179,7 @@ def test_no_change_rebuild_is_byte_identical(project, tmp_path):
 
 def test_interrupt_during_the_pdf_step_keeps_the_previous_dossier(quick, no_figures, project, tmp_path, monkeypatch):
     out = tmp_path / "out"
-    build.build_dossier(project, out, formats=("json", "csv"), jobs=1)
+    build.build_dossier(project, out, formats=("json", "csv"), jobs=1, draft=True)
     before = _tree(out)
 
     def interrupted(*args, **kwargs):
@@ -187,20 +187,20 @@ def test_interrupt_during_the_pdf_step_keeps_the_previous_dossier(quick, no_figu
 
     monkeypatch.setattr(render, "write_pdf", interrupted)
     with pytest.raises(KeyboardInterrupt):
-        build.build_dossier(project, out, formats=("html", "pdf", "json"), jobs=1)
+        build.build_dossier(project, out, formats=("html", "pdf", "json"), jobs=1, draft=True)
     assert _tree(out) == before
     assert sorted(p.name for p in out.parent.iterdir()) == ["out", "study"]
 
 
 def test_a_bad_user_template_keeps_the_previous_dossier(quick, no_figures, project, tmp_path):
     out = tmp_path / "out"
-    build.build_dossier(project, out, formats=("json",), jobs=1)
+    build.build_dossier(project, out, formats=("json",), jobs=1, draft=True)
     before = _tree(out)
     tpl = tmp_path / "tpl"
     tpl.mkdir()
     (tpl / "summary.html").write_text("{% for x in %}")
     with pytest.raises(BuildError) as err:
-        build.build_dossier(project, out, formats=("html", "json"), templates_dir=tpl, jobs=1)
+        build.build_dossier(project, out, formats=("html", "json"), templates_dir=tpl, jobs=1, draft=True)
     assert "summary.html" in str(err.value)
     assert _tree(out) == before and not [p for p in out.parent.iterdir() if p.name.startswith(".")]
 
@@ -210,20 +210,20 @@ def test_only_a_dossier_folder_is_replaced(project, tmp_path):
     foreign.mkdir()
     (foreign / "chapter1.tex").write_text("precious")
     with pytest.raises(BuildError) as err:
-        build.build_dossier(project, foreign, formats=("json",), jobs=1)
+        build.build_dossier(project, foreign, formats=("json",), jobs=1, draft=True)
     assert str(foreign) in str(err.value)
     assert (foreign / "chapter1.tex").read_text() == "precious" and len(list(foreign.iterdir())) == 1
     with pytest.raises(BuildError):
-        build.build_dossier(project, project.parent, formats=("json",), jobs=1)
+        build.build_dossier(project, project.parent, formats=("json",), jobs=1, draft=True)
     with pytest.raises(BuildError):
-        build.build_dossier(project, tmp_path, formats=("json",), jobs=1)
+        build.build_dossier(project, tmp_path, formats=("json",), jobs=1, draft=True)
 
 
 def test_default_folder_and_stale_temporaries(quick, project, tmp_path):
     stale = project.parent / ".dossier-build.building-999999999"
     stale.mkdir()
     (stale / build.MARKER).write_text("x")
-    result = build.build_dossier(project, formats=("json", "xyz"), jobs=1)
+    result = build.build_dossier(project, formats=("json", "xyz"), jobs=1, draft=True)
     assert result.out_dir == project.parent / "dossier-build"
     assert (project.parent / "dossier-build" / "states.xyz").is_file()
     assert not stale.exists()
@@ -231,7 +231,7 @@ def test_default_folder_and_stale_temporaries(quick, project, tmp_path):
 
 @pytest.mark.slow
 def test_png_figures_on_request(quick, project, tmp_path):
-    result = build.build_dossier(project, tmp_path / "png", formats=("json",), png=True, jobs=1)
+    result = build.build_dossier(project, tmp_path / "png", formats=("json",), png=True, jobs=1, draft=True)
     pngs = [p for name, p in result.files.items() if name.startswith("figures/")]
     assert pngs and all(p.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for p in pngs)
     assert "dossier.html" not in result.files and "dossier.pdf" not in result.files
@@ -246,15 +246,25 @@ def test_formats_are_checked():
 
 
 @pytest.mark.slow
-def test_command_exits_0_with_check_errors_and_2_on_bad_input(project, tmp_path, shared_cache):
+def test_command_refuses_check_errors_builds_a_draft_on_request_and_exits_2_on_bad_input(project, tmp_path,
+                                                                                          shared_cache):
     out = tmp_path / "cli-out"
     env = {"DOSSIER_CACHE_DIR": str(shared_cache)}
-    done = _cli("build", str(project), "--out", str(out), "--formats", "json,xyz", env=env)
+    refused = _cli("build", str(project), "--out", str(out), "--formats", "json,html", env=env)
+    assert refused.returncode == 1, refused.stderr
+    assert "CHECKS FOUND" in refused.stderr and "nothing was written" in refused.stderr
+    assert "error ATOM-ORDER" in refused.stderr or "error IMAG" in refused.stderr
+    assert not out.exists() and not refused.stdout.strip()
+    done = _cli("build", str(project), "--out", str(out), "--formats", "json,xyz,html", "--draft", env=env)
     assert done.returncode == 0, done.stderr
-    assert "CHECKS FOUND" in done.stderr and ("error ATOM-ORDER" in done.stderr or "error IMAG" in done.stderr)
-    assert "build: reading output files" in done.stderr and "build: analysing" in done.stderr
-    assert (out / "dossier.json").is_file() and (out / "states.xyz").is_file() and not (out / "dossier.html").exists()
-    assert str(out / "dossier.json") in done.stdout.splitlines()
+    assert "DRAFT" in done.stderr and "build: reading output files" in done.stderr and "build: analysing" in done.stderr
+    data = json.loads((out / "dossier.json").read_text())
+    n = sum(1 for c in data["checks"] if c["severity"] == "error")
+    assert data["draft"] is True and data["draft_errors"] == n > 0
+    html_text = (out / "dossier.html").read_text()
+    # the visible mark and the PDF page-margin mark (CSS @page top-center) carry the same words
+    assert html_text.count(f"draft: {n} check error") >= 2
+    assert (out / "states.xyz").is_file() and str(out / "dossier.json") in done.stdout.splitlines()
     for args in (["build", str(tmp_path / "missing.toml")], ["build", str(project), "--formats", "json,docx"],
                  ["build", str(project), "--templates", str(tmp_path / "no-such-folder")]):
         bad = _cli(*args, env=env)
@@ -264,16 +274,21 @@ def test_command_exits_0_with_check_errors_and_2_on_bad_input(project, tmp_path,
 
 
 @pytest.mark.slow
-def test_demo_summary_quotes_a_rate_model_within_its_range(demo_build):
-    """The demo's TST barrier is negative and its golden-rule Marcus rate adiabatic (both flagged by the
-    analysis); the plain-words summary must quote a model whose formula holds, not the flagged ones."""
-    from dossier.report.render import summary_view
+def test_demo_headline_is_null_and_the_summary_says_why(demo_build):
+    """On the demo no model applies: the Gibbs TST barrier is negative, the golden-rule Marcus rate is in the
+    adiabatic regime (2 pi gamma ~ 19, kappa_eff ~ 200) and the two-state barrier (1.3 kJ/mol) lies below the
+    zero-point level of the ~1070 cm-1 transfer mode. The summary quotes no rate and gives the vibrational
+    period 1/(c nu) instead (c from CODATA via scipy.constants)."""
+    from scipy import constants
 
     _, result = demo_build
-    for entry in summary_view(result.data):
-        quoted = [r for r in entry["pathway"]["rates"] if r["model"] == entry["model"]]
-        assert quoted
-        for rate in quoted:
-            validity = rate.get("validity") or {}
-            assert validity.get("valid", True) and validity.get("nonadiabatic_regime", True), rate["model"]
-        assert f"({entry['model']})" in (result.out_dir / "dossier.html").read_text()
+    assert result.data.get("draft") is False
+    html_text = (result.out_dir / "dossier.html").read_text()
+    for pw in result.data["pathways"]:
+        assert pw["headline_rate"] is None and pw["headline_reason"].startswith("no rate model applies")
+        assert all(r["validity"]["valid"] is False for r in pw["rates"] if r["temperature_k"] == 298.15)
+        sup = pw["supported"]
+        period = 1e15 / (constants.c * 100.0 * sup["wavenumber_cm1"])
+        assert sup["vibrational_period_fs"] == pytest.approx(period, rel=1e-9)
+        assert f"{period:.0f} fs" in sup["statement"] and sup["statement"] in html_text.replace("&#39;", "'")
+        assert "No rate constant is quoted" in html_text

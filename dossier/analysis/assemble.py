@@ -31,7 +31,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from dossier.analysis.decisions import report_choices
+from dossier.analysis.decisions import add_headlines, report_choices
 from dossier.analysis.sources import source_entries
 from dossier.analysis.common import MODEL_STATEMENT, REFERENCE_TEMPERATURE_K, SCHEMA_VERSION
 from dossier.analysis.energies import _Energies
@@ -144,6 +144,7 @@ def analyse(project, *, progress=None) -> dict:
         if vib or g:
             out["experiment_placements"] = {"vibrations": vib, "g_values": g}
     out["sources"] = source_entries(project)
+    add_headlines(out)
     out["report"] = report_choices(out)
     return to_json_types(out)
 

@@ -7,7 +7,7 @@ from typing import Any
 from dossier import units as u
 from dossier.science import localization as loc
 from dossier.science import marcus
-from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _value_at
+from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _pick, _value_at
 from dossier.analysis.rates import _RateInputs, _arrhenius, _mlj_parameters, _rates
 from dossier.analysis.routes import _chosen_energy_route, _coupling_routes, _double_well, _driving_and_barrier, _lambda_routes, _mode_analysis
 
@@ -64,7 +64,8 @@ def _pathway_entry(ctx, pw) -> dict:
     mlj, mlj_reason = _mlj_parameters(lam, lam_routes, modes, u.rt_kj_mol(ctx.t_ref))
     nu_n = modes["nuclear_frequency_cm1"] if modes else None
     levels = {k: pw.levels.get(k, pw.recipe) for k in ("driving_force", "barrier", "reorganization_energy", "coupling")}
-    inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels)
+    inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
+                      zpe_barrier=_pick(barrier_routes, "ts-electronic+zpe"))
     rates, rate_missing = _rates(ctx, pw, inp, temps, annotate=True)
     if mlj_reason:
         rate_missing = [m for m in rate_missing if m["model"] != MODEL_MLJ] + [{"model": MODEL_MLJ, "reason": mlj_reason}]
@@ -74,7 +75,8 @@ def _pathway_entry(ctx, pw) -> dict:
         b = d if bar_recipe == df_recipe else _driving_and_barrier(ctx, pw, bar_recipe, ts_)
         return _RateInputs(driving=_chosen_energy_route(d["driving_force"], p.recipes[df_recipe].thermal == "frequencies", False),
                            barrier=_chosen_energy_route(b["barrier"], p.recipes[bar_recipe].thermal == "frequencies", True),
-                           lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels)
+                           lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
+                           zpe_barrier=_pick(b["barrier"], "ts-electronic+zpe"))
 
     lz = _landau_zener_series(hab, lam, nu_n, temps)
 
@@ -152,7 +154,8 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
     levels = {"driving_force": recipe, "barrier": recipe,
               "reorganization_energy": pw.levels.get("reorganization_energy", pw.recipe),
               "coupling": pw.levels.get("coupling", pw.recipe)}
-    inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels)
+    inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
+                      zpe_barrier=_pick(d["barrier"], "ts-electronic+zpe"))
     rates, missing = _rates(ctx, pw, inp, temps, annotate=True)
     rung["rates"] = [{k: v for k, v in r.items() if k not in ("formula", "provenance")} for r in rates]
     rung["notes"] += [f"{m['model']}: {m['reason']}" for m in missing]

@@ -4,56 +4,74 @@ from __future__ import annotations
 from collections.abc import Callable
 
 
-from dossier.science import marcus
+from dossier.science import applicability, marcus
 from dossier.analysis.common import FORMULAS, FUNCTIONS, LOCAL_ARRHENIUS_STEP_K, MLJ_N_MAX, MODELS, MODEL_ADIABATIC, MODEL_EYRING, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _pick, _rate_ratio, _value_at
 
 
 class _RateInputs:
-    """Everything a pathway's rate models need at one recipe combination."""
+    """Everything a pathway's rate models need at one recipe combination. ``zpe_barrier`` is the
+    electronic+ZPE barrier route at the barrier's recipe (None without frequency jobs)."""
 
-    def __init__(self, *, driving, barrier, lam, hab, mlj, nu_n_cm1, levels):
+    def __init__(self, *, driving, barrier, lam, hab, mlj, nu_n_cm1, levels, zpe_barrier=None):
         self.driving, self.barrier, self.lam, self.hab = driving, barrier, lam, hab
         self.mlj, self.nu_n_cm1, self.levels = mlj, nu_n_cm1, levels
+        self.zpe_barrier = zpe_barrier
 
+
+def _lz(inp: _RateInputs, t: float) -> float | None:
+    if inp.hab is None or inp.lam is None or inp.nu_n_cm1 is None or not inp.lam["value_kj_mol"] > 0:
+        return None
+    return float(marcus.landau_zener_parameter(inp.hab["value_cm1"], inp.lam["value_kj_mol"], t, inp.nu_n_cm1))
+
+
+def _eyring_entry(t: float, inp: _RateInputs) -> dict:
+    if inp.barrier is None:
+        raise _Unavailable("no transition-state barrier")
+    g = _value_at(inp.barrier, t)
+    params = {"barrier_kj_mol": g, "temperature_k": t, "transmission_coefficient": 1.0}
+    k = marcus.eyring_rate_per_s(**params)
+    thermal = inp.barrier["route"] != "ts-electronic"
+    validity = applicability.tst_verdict(g, t, thermal=thermal, landau_zener_parameter=_lz(inp, t))
+    return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": 1.0, "validity": validity,
+            "parameters": params, "inputs": {"barrier": inp.barrier["route"]}}
+
+
+def _golden_rule_validity(params: dict, lam: float, t: float, inp: _RateInputs, kappa: float) -> dict:
+    v = applicability.golden_rule_verdict(params["coupling_cm1"], lam, t, inp.nu_n_cm1, kappa)
+    g = next((c["value"] for c in v["criteria"] if c["criterion"] == "nonadiabatic_passage"), None)
+    v["landau_zener_parameter"] = g
+    v["nonadiabatic_regime"] = None if g is None else bool(g < applicability.MAX_LANDAU_ZENER)
+    return v
+
+
+def _zpe_barrier_at(inp: _RateInputs, t: float) -> float | None:
+    try:
+        return _value_at(inp.zpe_barrier, t) if inp.zpe_barrier is not None else None
+    except _Unavailable:
+        return None
 
 
 def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
-    """One rate entry with the exact keyword arguments its function was called with (`parameters`)."""
+    """One rate entry with the exact keyword arguments its function was called with (`parameters`) and
+    the verdict of the model's applicability computed from those parameters (`validity`)."""
     eyring = marcus.eyring_rate_per_s
     if model == MODEL_EYRING:
-        if inp.barrier is None:
-            raise _Unavailable("no transition-state barrier")
-        g = _value_at(inp.barrier, t)
-        params = {"barrier_kj_mol": g, "temperature_k": t, "transmission_coefficient": 1.0}
-        k = marcus.eyring_rate_per_s(**params)
-        validity = {"valid": bool(g >= 0.0),
-                    "note": ("transition-state theory from the TS free energy" if g >= 0.0 else
-                             f"the transition state lies {-g:.1f} kJ/mol below the reactant at this level: a negative "
-                             "barrier has no TST meaning (the rate exceeds k_B T / h); the level is not to be trusted "
-                             "for this barrier")}
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": 1.0, "validity": validity,
-                "parameters": params, "inputs": {"barrier": inp.barrier["route"]}}
+        return _eyring_entry(t, inp)
     if inp.lam is None or inp.hab is None or inp.driving is None:
         raise _Unavailable("needs lambda, H_ab and dG0")
     dg0 = _value_at(inp.driving, t)
     lam, hab = inp.lam["value_kj_mol"], inp.hab["value_cm1"]
     inputs = {"driving_force": inp.driving["route"], "reorganization_energy": inp.lam["route"],
               "coupling": inp.hab["route"]}
-    validity = None
-    if inp.nu_n_cm1 is not None and model in (MODEL_MARCUS, MODEL_MLJ):
-        gamma = marcus.landau_zener_parameter(hab, lam, t, inp.nu_n_cm1)
-        validity = {"landau_zener_parameter": gamma, "nonadiabatic_regime": bool(gamma < 1.0),
-                    "note": ("nonadiabatic: the golden-rule formula applies" if gamma < 1.0 else
-                             f"adiabatic (2 pi gamma = {gamma:.3g} > 1): the golden-rule formula is outside its range "
-                             "and overestimates the rate; prefer marcus-hush-adiabatic or eyring-tst")}
     if model == MODEL_MARCUS:
         params = {"coupling_cm1": hab, "reorganization_energy_kj_mol": lam, "delta_g0_kj_mol": dg0, "temperature_k": t}
         k = marcus.marcus_nonadiabatic_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": _rate_ratio(k, eyring(g, t)),
+        kappa = _rate_ratio(k, eyring(g, t))
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": kappa,
                 "transmission_coefficient_meaning": "k / [(k_B T/h) exp(-dG*/RT)]: the effective nonadiabatic factor "
                                                     "(above 1 only where the formula is outside its range)",
-                "validity": validity, "parameters": params, "inputs": inputs}
+                "validity": _golden_rule_validity(params, lam, t, inp, kappa), "parameters": params, "inputs": inputs}
     if model == MODEL_MLJ:
         if inp.mlj is None:
             raise _Unavailable("no effective quantum mode")
@@ -63,10 +81,13 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
                   "huang_rhys": m["huang_rhys"], "n_max": MLJ_N_MAX}
         k = marcus.mlj_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": _rate_ratio(k, eyring(g, t)),
+        kappa = _rate_ratio(k, eyring(g, t))
+        lam_total = m["solvent_reorganization_kj_mol"] + m["quantum_reorganization_kj_mol"]
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": kappa,
                 "transmission_coefficient_meaning": "k / [(k_B T/h) exp(-dG*/RT)] with the classical Marcus "
                                                     "barrier of the total lambda",
-                "validity": validity, "parameters": params, "inputs": inputs}
+                "validity": _golden_rule_validity(params, lam_total, t, inp, kappa), "parameters": params,
+                "inputs": inputs}
     if model == MODEL_ADIABATIC:
         if inp.nu_n_cm1 is None:
             raise _Unavailable("no nuclear frequency from the modes")
@@ -75,8 +96,10 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
         k = marcus.marcus_hush_adiabatic_rate_per_s(**params)
         g = marcus.adiabatic_barrier_kj_mol(lam, dg0, hab)
         kappa = marcus.landau_zener_transmission_coefficient(hab, lam, t, inp.nu_n_cm1)
-        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": kappa, "parameters": params,
-                "inputs": inputs}
+        zpe = _zpe_barrier_at(inp, t)
+        validity = applicability.adiabatic_verdict(hab, lam, dg0, t, inp.nu_n_cm1, surface_zpe_barrier_kj_mol=zpe)
+        return {"rate_per_s": k, "barrier_kj_mol": g, "transmission_coefficient": kappa, "validity": validity,
+                "parameters": params, "inputs": inputs}
     raise ValueError(model)
 
 

@@ -2,13 +2,15 @@
 
 The output folder defaults to ``dossier-build`` beside the manifest. It is replaced as a
 whole when the build succeeds, and only if it is empty or holds an earlier dossier build.
-Exit status: 0 when the dossier was written, even if the checks found errors (they are
-shown prominently in the document and summarised on stderr); 2 on bad input.
+Exit status: 0 when the dossier was written; 1 when the checks found errors, in which case
+nothing is written and the errors are printed (``--draft`` builds anyway: every page is marked
+"draft: N check errors" and dossier.json has ``"draft": true``); 2 on bad input.
 """
 from __future__ import annotations
 
 import sys
 
+from dossier.errors import ChecksFailed
 from dossier.report.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats, stderr_progress
 
 HELP = "build the supporting-information dossier (HTML, PDF, JSON, CSV, XYZ, LaTeX, BibTeX) from a manifest"
@@ -27,23 +29,36 @@ def add_arguments(parser) -> None:
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
     parser.add_argument("--no-cache", action="store_true", help="re-read every output file instead of using the cache")
     parser.add_argument("--quiet", action="store_true", help="no progress lines")
+    parser.add_argument("--draft", action="store_true",
+                        help="build even when the checks find errors; every page is marked as a draft")
+
+
+def _print_errors(errors: list[dict], head: str) -> None:
+    print(head, file=sys.stderr)
+    for c in errors[:10]:
+        where = " ".join(x for x in (c.get("state"), c.get("file")) if x)
+        print(f"  error {c.get('code')}: {where}: {c.get('message')}", file=sys.stderr)
+    if len(errors) > 10:
+        print(f"  ... and {len(errors) - 10} more", file=sys.stderr)
 
 
 def run(args) -> int:
     formats = parse_formats(args.formats)
-    result = build_dossier(args.manifest, args.out, formats=formats, templates_dir=args.templates, jobs=args.jobs,
-                           use_cache=not args.no_cache, progress=None if args.quiet else stderr_progress,
-                           png=args.png, numbered_atoms=args.number_atoms)
+    try:
+        result = build_dossier(args.manifest, args.out, formats=formats, templates_dir=args.templates, jobs=args.jobs,
+                               use_cache=not args.no_cache, progress=None if args.quiet else stderr_progress,
+                               png=args.png, numbered_atoms=args.number_atoms, draft=args.draft)
+    except ChecksFailed as exc:
+        n = len(exc.errors)
+        _print_errors(exc.errors, f"build: CHECKS FOUND {n} ERROR{'S' if n != 1 else ''}; nothing was written "
+                                  "(fix them, or build with --draft to write a dossier marked as a draft):")
+        return 1
     checks = result.data.get("checks") or []
     errors = [c for c in checks if c.get("severity") == "error"]
     if errors:
-        print(f"build: CHECKS FOUND {len(errors)} ERROR{'S' if len(errors) != 1 else ''} "
-              f"(shown at the top of the dossier):", file=sys.stderr)
-        for c in errors[:10]:
-            where = " ".join(x for x in (c.get("state"), c.get("file")) if x)
-            print(f"  error {c.get('code')}: {where}: {c.get('message')}", file=sys.stderr)
-        if len(errors) > 10:
-            print(f"  ... and {len(errors) - 10} more", file=sys.stderr)
+        n = len(errors)
+        _print_errors(errors, f"build: DRAFT: CHECKS FOUND {n} ERROR{'S' if n != 1 else ''} "
+                              "(every page is marked as a draft):")
     if result.n_warnings:
         print(f"build: {result.n_warnings} warning{'s' if result.n_warnings != 1 else ''} from the checks", file=sys.stderr)
     n = len(result.files)

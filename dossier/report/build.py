@@ -23,7 +23,7 @@ from pathlib import Path
 from typing import Callable, Iterable
 
 from dossier import __version__
-from dossier.errors import BuildError
+from dossier.errors import BuildError, ChecksFailed
 
 ALL_FORMATS = ("html", "pdf", "json", "csv", "xyz", "tex", "bib")
 #: The file that marks a folder as a dossier build (only such folders are replaced).
@@ -191,14 +191,16 @@ def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_d
 
 def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_FORMATS, templates_dir=None,
                   jobs: int | None = None, use_cache: bool = True, progress: Progress | None = None,
-                  png: bool = False, numbered_atoms: bool = False) -> BuildResult:
+                  png: bool = False, numbered_atoms: bool = False, draft: bool = False) -> BuildResult:
     """Build the dossier of ``manifest_path`` into ``out_dir`` (default: ``dossier-build`` beside it).
 
     ``formats``: any of html, pdf, json, csv, xyz, tex, bib. ``templates_dir``: a folder whose
     templates override the built-in ones (rendered sandboxed). ``png``: also write every figure
     as PNG under ``figures/``. ``progress``: called with one line of text per slow step.
     Raises a DossierError (manifest, read or build error) for bad input; the previous dossier
-    in ``out_dir`` is then left untouched.
+    in ``out_dir`` is then left untouched. When the checks find errors it raises ChecksFailed and
+    writes nothing, unless ``draft``: then it builds, sets ``"draft": true`` (and ``draft_errors``)
+    in dossier.json and marks every HTML/PDF page "draft: N check errors".
     """
     from dossier.project import load_project
 
@@ -234,6 +236,13 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     timings["analysis"] = time.perf_counter() - t0
 
     checks = data.get("checks") or []
+    errors = [c for c in checks if c.get("severity") == "error"]
+    if errors and not draft:
+        n = len(errors)
+        raise ChecksFailed(f"the checks found {n} error{'s' if n != 1 else ''}; nothing was written "
+                           "(fix them, or build with --draft)", errors, where=str(manifest_path))
+    data["draft"] = bool(errors)
+    data["draft_errors"] = len(errors)
     result = BuildResult(out_dir=out_dir, data=data,
                          n_errors=sum(1 for c in checks if c.get("severity") == "error"),
                          n_warnings=sum(1 for c in checks if c.get("severity") == "warning"))

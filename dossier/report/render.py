@@ -187,8 +187,10 @@ def summary_view(data: dict) -> list[dict]:
     scheme = data["report"]["population_scheme"]
     out = []
     for pw in data.get("pathways", []):
-        model = data["report"]["quoted_models"].get(pw["name"])
-        rates = sorted((r for r in pw.get("rates", []) if r.get("model") == model), key=lambda r: r.get("temperature_k", 0))
+        head = pw.get("headline_rate")
+        model = head["model"] if head else None
+        rates = sorted((r for r in pw.get("rates", []) if r.get("model") == model
+                        and (r.get("validity") or {}).get("valid") is True), key=lambda r: r.get("temperature_k", 0))
         exp_all = (pw.get("experiment") or {}).get("rates") or []
         matched = [e for e in exp_all if e.get("computed_model") in (model, None)]
         ratios = [e["log10_ratio"] for e in matched if isinstance(e.get("log10_ratio"), (int, float))]
@@ -209,6 +211,7 @@ def summary_view(data: dict) -> list[dict]:
             "driving_force": _energy(pw.get("delta_g0_kj_mol"), unit),
             "model": model,
             "rates": rates,
+            "headline": head, "headline_reason": pw.get("headline_reason"), "supported": pw.get("supported"),
             "experiment": exp_all, "agreement": agreement,
             "band": (pw.get("experiment") or {}).get("band"),
         })

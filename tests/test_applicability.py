@@ -1,0 +1,125 @@
+"""Where each rate model holds (dossier.science.applicability) and which rate a pathway quotes
+(dossier.analysis.decisions.headline)."""
+from __future__ import annotations
+
+import math
+
+import pytest
+from scipy import constants as C
+
+from dossier.analysis import decisions
+from dossier.analysis.rates import _RateInputs, _rate_entry
+from dossier.science import applicability as ap
+
+KJ_MOL_PER_CM1 = C.h * C.c * 100 * C.N_A / 1000  # CODATA via scipy.constants
+
+
+def _rt(t: float) -> float:
+    return C.R * t / 1000
+
+
+def _nu_el_independent(h_cm1: float, lam_kj_mol: float, t: float) -> float:
+    """nu_el = (H_ab^2 / hbar) (pi / (lambda k_B T))^1/2 (Newton & Sutin, Annu. Rev. Phys. Chem. 1984, 35, 437,
+    eq. 3.9, from memory), evaluated here from CODATA constants only."""
+    h = h_cm1 * C.h * C.c * 100
+    lam = lam_kj_mol * 1000 / C.N_A
+    return h**2 / C.hbar * math.sqrt(math.pi / (lam * C.k * t))
+
+
+def test_landau_zener_regimes_of_a_worked_example():
+    """Newton & Sutin 1984 (from memory): for lambda ~ 1 eV and nu_n ~ 1e13 s-1 at room temperature, coupling of a
+    few tens of cm-1 is nonadiabatic (kappa_el << 1) and a few hundred cm-1 is adiabatic (kappa_el -> 1), with
+    2 pi gamma = nu_el / (2 nu_n), P = 1 - exp(-2 pi gamma) and kappa_el = 2P / (1 + P)."""
+    lam = C.eV * C.N_A / 1000  # 1 eV in kJ/mol
+    nu_n_cm1 = 1e13 / (C.c * 100)
+    t = 298.15
+    for h_cm1 in (20.0, 200.0, 600.0):
+        gamma = _nu_el_independent(h_cm1, lam, t) / (2 * 1e13)
+        p = 1 - math.exp(-gamma)
+        kappa = 2 * p / (1 + p)
+        v = ap.golden_rule_verdict(h_cm1, lam, t, nu_n_cm1, effective_kappa=kappa)
+        got = next(c["value"] for c in v["criteria"] if c["criterion"] == "nonadiabatic_passage")
+        assert got == pytest.approx(gamma, rel=1e-9)
+        assert v["valid"] is (gamma < 1)
+        tst = ap.tst_verdict(40.0, t, landau_zener_parameter=got)
+        assert tst["valid"] is (gamma >= 1)
+    # the regimes of the recalled statement
+    assert _nu_el_independent(20.0, lam, t) / 2e13 < 0.01
+    assert _nu_el_independent(600.0, lam, t) / 2e13 > 4
+
+
+def test_class_three_parameters_give_no_valid_golden_rule_rate_even_without_frequencies():
+    """2 H_ab >= lambda: a single minimum, class III (Brunschwig, Creutz, Sutin, Chem. Soc. Rev. 2002, 31, 168):
+    the golden-rule rate is never valid, whether or not a nuclear frequency is known."""
+    lam, hab = 50.0, 3500.0  # 2 H_ab / lambda = 1.67
+    assert 2 * hab * KJ_MOL_PER_CM1 / lam > 1
+    driving = {"route": "gibbs", "by_temperature": [{"temperature_k": 298.15, "value_kj_mol": 0.0}]}
+    inp = _RateInputs(driving=driving, barrier=None, lam={"route": "four-point", "value_kj_mol": lam},
+                      hab={"route": "half-splitting-at-ts", "value_cm1": hab}, mlj=None, nu_n_cm1=None, levels={})
+    e = _rate_entry("marcus", 298.15, inp)
+    assert e["validity"]["valid"] is False and e["validity"]["judged"] is False
+    assert "2H_ab/lambda = 1.67 >= 1" in e["validity"]["note"]
+    # a weak coupling and no frequency: not invalid by any criterion, but not judged either
+    inp.hab = {"route": "half-splitting-at-ts", "value_cm1": 30.0}
+    e = _rate_entry("marcus", 298.15, inp)
+    assert e["validity"]["valid"] is False and e["validity"]["note"].startswith("cannot be judged: ")
+
+
+def test_a_barrier_below_rt_gives_no_valid_tst_rate():
+    """TST needs a barrier well above RT (the threshold 2 RT: common practice, no source). RT from CODATA R."""
+    t = 298.15
+    rt = _rt(t)
+    barrier = {"route": "ts-gibbs", "by_temperature": [{"temperature_k": t, "value_kj_mol": 0.8 * rt}]}
+    inp = _RateInputs(driving=None, barrier=barrier, lam=None, hab=None, mlj=None, nu_n_cm1=None, levels={})
+    e = _rate_entry("eyring-tst", t, inp)
+    assert e["rate_per_s"] == pytest.approx(C.k * t / C.h * math.exp(-0.8), rel=1e-9)  # Eyring, kappa = 1
+    assert e["validity"]["valid"] is False and "0.80 RT" in e["validity"]["note"]
+    assert ap.tst_verdict(-1.0, t)["valid"] is False and "negative" in ap.tst_verdict(-1.0, t)["note"]
+    assert ap.tst_verdict(10 * rt, t)["valid"] is True
+    # an electronic-only barrier cannot be judged (zero-point energy unknown)
+    v = ap.tst_verdict(10 * rt, t, thermal=False)
+    assert v["valid"] is False and v["note"].startswith("cannot be judged: ")
+
+
+def test_adiabatic_model_needs_a_double_well_above_the_zero_point_level():
+    """(1/2) h c nu of a harmonic mode (textbook zero-point energy, CODATA h and c)."""
+    nu = 1000.0
+    assert ap.zero_point_level_kj_mol(nu) == pytest.approx(0.5 * nu * KJ_MOL_PER_CM1, rel=1e-12)
+    t = 298.15
+    # lambda 60, dG0 0, H_ab 1500 cm-1: dG*_ad = 15 - 17.94 + 17.94^2 / 60 = 2.4 kJ/mol < 5.98 (zero-point level)
+    low = ap.adiabatic_verdict(1500.0, 60.0, 0.0, t, nu)
+    assert low["valid"] is False and "zero-point level" in low["note"]
+    high = ap.adiabatic_verdict(100.0, 100.0, 0.0, t, nu)  # dG*_ad ~ 23.8 kJ/mol
+    assert high["valid"] is True
+    surface = ap.adiabatic_verdict(100.0, 100.0, 0.0, t, nu, surface_zpe_barrier_kj_mol=-3.7)
+    assert surface["valid"] is False and "3.70 kJ/mol below the reactant" in surface["note"]
+
+
+def test_vibrational_period():
+    # 1000 cm-1 <-> 33.36 fs (period = 1 / (c nu~), CODATA c)
+    assert ap.vibrational_period_fs(1000.0) == pytest.approx(1e15 / (C.c * 1e5), rel=1e-12)
+    assert ap.vibrational_period_fs(1000.0) == pytest.approx(33.356, abs=1e-3)
+
+
+def _entry(model, valid, t=298.15, k=1e6):
+    return {"model": model, "temperature_k": t, "rate_per_s": k,
+            "validity": {"valid": valid, "note": f"{model} {'holds' if valid else 'fails'}"}}
+
+
+def test_headline_is_the_first_valid_model_of_the_stated_preference():
+    pw = {"name": "p", "reactant": "a", "transition_state": "ts", "product": "b", "reference_temperature_k": 298.15,
+          "rates": [_entry("eyring-tst", False), _entry("marcus", True, k=2e5), _entry("marcus", False, t=350.0),
+                    _entry("marcus-hush-adiabatic", True)]}
+    rate, reason, supported = decisions.headline(pw, [])
+    assert rate["model"] == "marcus" and rate["rate_per_s"] == 2e5 and rate["rates_index"] == 1
+    assert "marcus holds" in reason and supported is None
+    pw["rates"][0]["validity"] = {"valid": True, "note": "ok"}
+    assert decisions.headline(pw, [])[0]["model"] == "eyring-tst"
+    # a check error on a state of the pathway: nothing is quoted
+    rate, reason, _ = decisions.headline(pw, [{"severity": "error", "state": "ts", "code": "IMAG"}])
+    assert rate is None and "ts" in reason
+    # no valid model: null, the reason lists every verdict
+    for r in pw["rates"]:
+        r["validity"] = {"valid": False, "note": "fails"}
+    rate, reason, supported = decisions.headline(pw, [])
+    assert rate is None and reason.startswith("no rate model applies") and supported["statement"]
