@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 #: Bump when the reading layer changes what it stores: stale cache entries are re-read.
-RECORD_SCHEMA_VERSION = 1
+RECORD_SCHEMA_VERSION = 2
 
 ELEMENT_SYMBOLS = (
     "X H He Li Be B C N O F Ne Na Mg Al Si P S Cl Ar K Ca Sc Ti V Cr Mn Fe Co Ni Cu Zn "
@@ -26,7 +26,9 @@ ELEMENT_SYMBOLS = (
 ).split()
 
 #: Status words. Only "ok" means a complete, normally terminated, converged run.
-STATUS_WORDS = ("ok", "not-converged", "truncated", "failed", "unsupported", "unreadable")
+#: "incomplete": the run ended normally but lacks what its input asked for (frequencies, the
+#: energy of the requested level); the reason names what is missing.
+STATUS_WORDS = ("ok", "not-converged", "truncated", "failed", "incomplete", "unsupported", "unreadable")
 
 
 @dataclass(frozen=True)
@@ -47,6 +49,9 @@ class LevelOfTheory:
     dispersion: str | None = None  # e.g. "D3(BJ)"
     solvation: str | None = None  # e.g. "COSMO (eps=35.7)"
     unrestricted: bool | None = None
+    # excited-state method of the job ("TDDFT", "CIS", "EOM-CCSD", "ROCIS", ...); `method` and
+    # the energy are then those of the ground-state reference (TDDFT -> DFT, EOM-CCSD -> CCSD)
+    excited_method: str | None = None
 
     def label(self) -> str:
         """Short human label, e.g. 'BHLYP/6-31G* COSMO (eps=35.7)'."""
@@ -138,7 +143,8 @@ class Calculation:
     coordinates_angstrom: list[list[float]] = field(default_factory=list)  # final geometry, N x 3
     optimization_energies_hartree: list[float] = field(default_factory=list)
     energies_hartree: dict[str, float] = field(default_factory=dict)  # {"scf": .., "mp2": .., "ccsd(t)": ..}
-    energy_hartree: float | None = None  # final energy at the highest level in the file
+    energy_hartree: float | None = None  # final energy at the level the job asked for (see energy_level)
+    energy_level: str | None = None  # the energies_hartree key energy_hartree was taken from
     scf_energy_hartree: float | None = None
     vibrations: Vibrations | None = None
     printed_thermo: PrintedThermo | None = None
@@ -147,6 +153,8 @@ class Calculation:
     excited_states: list[ExcitedState] = field(default_factory=list)
     orbitals: Orbitals | None = None
     dipole_debye: list[float] | None = None
+    geometry_source: str | None = None  # where coordinates_angstrom came from when not the log itself
+    coordinate_file: str | None = None  # input coordinate file the log names (xtb), as printed
     reader_version: int = RECORD_SCHEMA_VERSION
 
     # -- derived quantities -------------------------------------------------
@@ -233,6 +241,7 @@ class Calculation:
             "coordinates_angstrom": self.coordinates_angstrom,
             "energy_hartree": self.energy_hartree,
             "scf_energy_hartree": self.scf_energy_hartree,
+            "energy_level": self.energy_level,
             "energies_hartree": dict(self.energies_hartree),
             "optimization_energies_hartree": list(self.optimization_energies_hartree),
             "frequencies_cm1": list(vib.wavenumbers_cm1) if vib else [],
@@ -244,6 +253,16 @@ class Calculation:
             "s2": self.s2,
             "s2_ideal": self.s2_ideal,
             "homo_indices": list(self.orbitals.homo_indices) if self.orbitals else None,
+            "orbital_energies_hartree": self.orbital_energies_by_spin(),
             "printed_thermo": dataclasses.asdict(self.printed_thermo) if self.printed_thermo else None,
             "dipole_debye": self.dipole_debye,
+            "geometry_source": self.geometry_source,
         }
+
+    def orbital_energies_by_spin(self) -> dict[str, list[float | None]] | None:
+        """{"alpha": [...], "beta": [...]} in hartree, ascending as printed; "beta" only for
+        unrestricted runs. None where an orbital energy is not printed (xtb's window)."""
+        if self.orbitals is None or not self.orbitals.energies_hartree:
+            return None
+        names = ("alpha", "beta")
+        return {names[i]: list(ch) for i, ch in enumerate(self.orbitals.energies_hartree[:2])}

@@ -29,6 +29,7 @@ from dossier.errors import ReadError
 from dossier.reading import cache as _cache
 from dossier.reading import files as _files
 from dossier.reading.cache import READER_VERSION, default_cache_dir
+from dossier.reading.coordfile import adopt_coordinate_file
 from dossier.reading.detect import SUPPORTED, identify
 from dossier.reading.jobs import job_name, split_jobs, split_name
 from dossier.reading.parallel import read_many
@@ -81,7 +82,7 @@ def read_jobs(path, *, use_cache: bool = True, cache_dir=None, max_bytes: int | 
     if use_cache:
         hits = _cache.load_jobs(cache_dir, sha)
         if hits is not None:
-            return [_with_source(c, where, sha, size) for c in hits]
+            return [adopt_coordinate_file(_with_source(c, where, sha, size)) for c in hits]
     if not raw.strip():
         raise ReadError("empty file" if not raw else "file holds only white space", where)
     content, packed = _files.decompress(raw, where, max_bytes)
@@ -95,7 +96,7 @@ def read_jobs(path, *, use_cache: bool = True, cache_dir=None, max_bytes: int | 
     calcs = _parse_jobs(text, where, source)
     if use_cache:
         _cache.store(cache_dir, calcs)
-    return calcs
+    return [adopt_coordinate_file(c) for c in calcs]
 
 
 def _with_source(calc: Calculation, where: str, sha: str, size: int) -> Calculation:

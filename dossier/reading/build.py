@@ -12,8 +12,31 @@ from dossier.reading.status import run_status
 from dossier.reading.supplements import BY_PROGRAM
 from dossier.records import Calculation, Source
 
-#: Energy levels from lowest to highest; energy_hartree is taken at the highest present.
-LEVEL_RANK = ("xtb", "scf", "mp2", "mp3", "mp4(sdq)", "mp4", "ccsd", "ccsd(t)")
+#: Energy levels from lowest to highest. energy_hartree is the level the job asked for
+#: (requested_level); the highest level present is used only when the request is unknown.
+LEVEL_RANK = ("xtb", "scf", "mp2", "mp3", "mp4(dq)", "mp4(sdq)", "mp4", "ccd", "ccsd", "qcisd", "ccsd[t]",
+              "qcisd(t)", "ccsd(t)")
+
+#: Ground-state method (LevelOfTheory.method, upper case) -> its energies_hartree key.
+#: Excited-state methods report their reference (TDDFT -> DFT, EOM-CCSD -> CCSD), see
+#: LevelOfTheory.excited_method, so they need no entry here.
+METHOD_LEVEL = {
+    "HF": "scf", "DFT": "scf", "SCF": "scf", "GFN2-XTB": "scf", "GFN1-XTB": "scf", "GFN0-XTB": "scf", "GFN-FF": "scf",
+    "MP2": "mp2", "MP3": "mp3", "MP4(DQ)": "mp4(dq)", "MP4(SDQ)": "mp4(sdq)", "MP4": "mp4", "MP4(SDTQ)": "mp4",
+    "CCD": "ccd", "CCSD": "ccsd", "CCSD(T)": "ccsd(t)", "QCISD": "qcisd", "QCISD(T)": "qcisd(t)",
+}
+
+
+def requested_level(method: str | None) -> str | None:
+    """energies_hartree key of the level a job asked for ("RI-MP2" -> "mp2", "DLPNO-CCSD(T)" ->
+    "ccsd(t)"); None when the method is unknown."""
+    if not method:
+        return None
+    m = method.upper()
+    for prefix in ("RI-", "DLPNO-", "LPNO-", "R", "U"):
+        if m not in METHOD_LEVEL and m.startswith(prefix) and m[len(prefix):] in METHOD_LEVEL:
+            m = m[len(prefix):]
+    return METHOD_LEVEL.get(m)
 
 
 def build_record(text: str, program: str, source: Source, *, trim_for_cclib: bool = True,
@@ -90,18 +113,7 @@ def finalize(calc: Calculation) -> None:
     if calc.elements and not calc.coordinates_angstrom and calc.status.word not in ("truncated", "failed"):
         calc.problems.append("the log prints no coordinates for this job")
 
-    # Final energy at the highest level present
-    if calc.scf_energy_hartree is None and "scf" in calc.energies_hartree:
-        calc.scf_energy_hartree = calc.energies_hartree["scf"]
-    present = [lvl for lvl in LEVEL_RANK if lvl in calc.energies_hartree]
-    extra = [lvl for lvl in calc.energies_hartree if lvl not in LEVEL_RANK]
-    if present:
-        calc.energy_hartree = calc.energies_hartree[present[-1]]
-        top = present[-1]
-        if top not in ("scf", "xtb") and calc.level.method in (None, "HF", "SCF"):
-            calc.level.method = top.upper()  # e.g. a UHF reference with an MP2 energy: an MP2 job
-    elif extra:
-        calc.energy_hartree = calc.energies_hartree[extra[-1]]
+    _choose_energy(calc)
 
     if calc.s2 is not None and calc.s2_deviation is not None and abs(calc.s2_deviation) > 0.1 and calc.multiplicity:
         calc.problems.append(
@@ -109,11 +121,55 @@ def finalize(calc: Calculation) -> None:
             " (tolerance 0.1, common practice, no source)"
         )
 
+    _require_what_was_asked(calc)
+
     # A run that did not finish: keep only what cannot change later in the log.
     if calc.status.word in ("truncated", "failed") or (calc.status.scf_converged is False and not calc.status.normal_termination):
         withhold(calc)
     elif calc.status.word != "ok" and calc.status.reason:
         calc.problems.append(calc.status.reason)
+
+
+def _choose_energy(calc: Calculation) -> None:
+    """energy_hartree = the level the job asked for, never a lower level printed on the way
+    (a CCSD job prints MP2, MP3 and MP4(SDQ) first); the highest level only when the request
+    is unknown."""
+    if calc.scf_energy_hartree is None and "scf" in calc.energies_hartree:
+        calc.scf_energy_hartree = calc.energies_hartree["scf"]
+    wanted = requested_level(calc.level.method)
+    if wanted is not None:
+        if wanted in calc.energies_hartree:
+            calc.energy_level = wanted
+            calc.energy_hartree = calc.energies_hartree[wanted]
+        return
+    present = [lvl for lvl in LEVEL_RANK if lvl in calc.energies_hartree]
+    extra = [lvl for lvl in calc.energies_hartree if lvl not in LEVEL_RANK]
+    top = present[-1] if present else (extra[-1] if extra else None)
+    if top is None:
+        return
+    calc.energy_level = top
+    calc.energy_hartree = calc.energies_hartree[top]
+    if top not in ("scf", "xtb") and calc.level.method in (None, "HF", "SCF"):
+        calc.level.method = top.upper()  # e.g. a UHF reference with an MP2 energy: an MP2 job
+
+
+def _require_what_was_asked(calc: Calculation) -> None:
+    """A normally ended run that lacks what its input asked for is never "ok"."""
+    st = calc.status
+    if st.word != "ok":
+        return
+    missing = []
+    if calc.energy_hartree is None and not calc.energies_hartree and calc.vibrations is None and not calc.excited_states:
+        st.word, st.reason = "failed", "no calculation was run (the log holds no energy, frequencies or excited states)"
+        return
+    wanted = requested_level(calc.level.method)
+    if calc.energy_hartree is None:
+        missing.append(f"the {calc.level.method or 'final'} energy" + (f" ({wanted})" if wanted else ""))
+    if "frequencies" in calc.job_kinds and calc.vibrations is None:
+        missing.append("the frequencies")
+    if missing:
+        st.word = "incomplete"
+        st.reason = "the input asks for " + " and ".join(missing) + " but the log prints none"
 
 
 def withhold(calc: Calculation) -> None:
@@ -128,6 +184,7 @@ def withhold(calc: Calculation) -> None:
     calc.coordinates_angstrom = []
     calc.energies_hartree = {}
     calc.energy_hartree = None
+    calc.energy_level = None
     calc.scf_energy_hartree = None
     calc.vibrations = None
     calc.printed_thermo = None

@@ -35,6 +35,7 @@ def _cached_only(path, cache_dir):
     import hashlib
 
     from dossier.reading import _with_source, cache, files, pick_job
+    from dossier.reading.coordfile import adopt_coordinate_file
     from dossier.reading.jobs import split_name
 
     where = str(path)
@@ -47,7 +48,7 @@ def _cached_only(path, cache_dir):
         hits = cache.load_jobs(cache_dir, sha)
         if hits is None:
             return None
-        return pick_job([_with_source(c, file_part, sha, len(raw)) for c in hits], file_part, job)
+        return adopt_coordinate_file(pick_job([_with_source(c, file_part, sha, len(raw)) for c in hits], file_part, job))
     except (ReadError, OSError):
         return None
 

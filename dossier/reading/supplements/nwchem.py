@@ -4,7 +4,9 @@
   "Atomic spin population" (and "Total gross population on atoms", from which the Mulliken
   charges are Z - population). Both are read here from the last such block.
 - <S^2> ("<S2> =      0.7778 (Exact =     0.7500)"; SCF-module UHF: "S^2 =      1.9410").
-- CCSD and CCSD(T) total energies at the printed 15 decimals, one per level.
+- CCSD, CCSD[T] and CCSD(T) total energies at the printed 15 decimals, one per level; the
+  level asked for from the TCE header ("Calculation type : Coupled-cluster singles & doubles
+  w/ perturbation", "Perturbative correction : (T)"); TDDFT/CIS from the TDDFT module header.
 - Frequencies: NWChem lists 3N rows including six (five) zero translation/rotation rows;
   they are removed by the common 3N-6 rule in dossier.reading.build (smallest |v| first).
 - Job kinds from the module banners; COSMO solvation with its dielectric constant.
@@ -83,6 +85,7 @@ def apply(calc, text: str, data) -> None:
     levels = {}
     for name, pat in (("ccsd", r"CCSD total energy / hartree\s*=\s*(" + FLOAT + ")"),
                       ("ccsd(t)", r"CCSD\(T\) total energy / hartree\s*=\s*(" + FLOAT + ")"),
+                      ("ccsd[t]", r"CCSD\[T\] total energy / hartree\s*=\s*(" + FLOAT + ")"),
                       ("mp2", r"Total MP2 energy\s+(" + FLOAT + ")"),
                       ("scs-mp2", r"Total SCS-MP2 energy\s+(" + FLOAT + ")")):
         v = last_float(pat, text)
@@ -93,6 +96,9 @@ def apply(calc, text: str, data) -> None:
             del calc.energies_hartree[k]
         calc.energies_hartree.update(levels)
 
+    if "mp2" in levels and calc.level.method in (None, "HF"):
+        calc.level.method = "MP2"  # the MP2 module ran (task mp2): its energy is the job's
+    _requested(calc, text)
     _tddft_roots(calc, text)
 
     n = calc.n_atoms
@@ -115,6 +121,24 @@ def apply(calc, text: str, data) -> None:
         calc.charges["mulliken"] = [_charge(z, p) for z, p in pops]
         total = pops
     _check_z(calc, total)
+
+
+#: TCE "Calculation type" -> method (with "Perturbative correction : (T)" -> "(T)" appended)
+TCE_TYPES = {"Coupled-cluster singles & doubles": "CCSD", "Coupled-cluster doubles": "CCD",
+             "Linearized coupled-cluster doubles": "LCCD", "MBPT(2)": "MP2", "MBPT(3)": "MP3", "MBPT(4)": "MP4"}
+
+
+def _requested(calc, text: str) -> None:
+    m = re.search(r"Calculation type : ([^\n]*?)\s*(?:w/ perturbation)?\s*\n", text)
+    if m and "Correlation Information" in text[max(0, m.start() - 400) : m.start()]:
+        method = TCE_TYPES.get(m.group(1).strip())
+        pert = re.search(r"Perturbative correction : (\S+)", text[m.end() : m.end() + 300])
+        if method:
+            calc.level.method = method + (pert.group(1) if pert and method == "CCSD" else "")
+            calc.level.functional = None
+    td = re.search(r"TDDFT Information\s*\n\s*-+\s*\n\s*Calculation type : (\w+)", text)
+    if td:
+        calc.level.excited_method = {"TDDFT": "TDDFT", "TDA": "TDDFT/TDA", "CIS": "CIS", "RPA": "TDHF"}.get(td.group(1), td.group(1))
 
 
 class _Printed(float):

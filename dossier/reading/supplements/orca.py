@@ -10,12 +10,16 @@ What it corrects or adds, each measured on the shared fixture logs:
   solvation terms, so it is the record's energy (scf for SCF methods; the highest
   correlated level for MP2/CC jobs, with E(MP2), E(CCSD), E(CCSD(T)) lines kept per level).
 - <S^2> ("Expectation value of <S**2>"), functional and job type from the input echo,
-  dispersion, CPCM/SMD solvation with its dielectric, Hirshfeld populations.
+  dispersion, CPCM/SMD solvation with its solvent and dielectric, Hirshfeld populations.
+- Frequencies, normal modes and IR intensities from the text (orca_blocks; cclib 1.8.1 fails
+  on the ORCA 6.0.1 layout with point group and irrep column), ROCIS excited states.
+- Excited-state jobs (TD-DFT, CIS, ROCIS) report the ground-state reference: the SCF energy.
 """
 from __future__ import annotations
 
 import re
 
+from dossier.reading.supplements import orca_blocks
 from dossier.reading.textutil import FLOAT, all_floats, last_float, last_match
 from dossier.records import ExcitedState, Orbitals
 from dossier.units import AU_DIPOLE_DEBYE, EV_CM1
@@ -31,7 +35,8 @@ DISPERSION = {"d3bj": "D3(BJ)", "d3zero": "D3(0)", "d3": "D3(BJ)", "d4": "D4", "
 def covers_skipped(skipped) -> bool:
     """cclib sections this supplement re-reads itself (ORCA 6 layouts)."""
     line, _err = skipped
-    return any(key in line for key in ("SCF CONVERGED", "ORBITAL ENERGIES", "ABSORPTION SPECTRUM", "DIPOLE MOMENT"))
+    return any(key in line for key in ("SCF CONVERGED", "ORBITAL ENERGIES", "ABSORPTION SPECTRUM", "DIPOLE MOMENT",
+                                       "VIBRATIONAL FREQUENCIES", "NORMAL MODES", "IR SPECTRUM"))
 
 
 def input_keywords(text: str) -> list[str]:
@@ -86,6 +91,14 @@ def apply(calc, text: str, data) -> None:
     if s2 is not None:
         calc.s2 = s2
 
+    # Excited-state method (its ground-state reference is the reported level)
+    rocis = "ORCA ROCIS CALCULATION" in text
+    td = re.search(r"\n(TD-DFT/TDA|TD-DFT|CIS) EXCITED STATES", text)
+    if rocis:
+        lvl.excited_method = "ROCIS"
+    elif td:
+        lvl.excited_method = {"TD-DFT/TDA": "TDDFT/TDA", "TD-DFT": "TDDFT"}.get(td.group(1), td.group(1))
+
     # Energies
     finals = all_floats(r"\nFINAL SINGLE POINT ENERGY\s+(" + FLOAT + ")", text)
     scf_totals = all_floats(r"\nTotal Energy\s+:\s+(" + FLOAT + r") Eh", text)
@@ -105,6 +118,13 @@ def apply(calc, text: str, data) -> None:
         top = "ccsd(t)" if "ccsd(t)" in levels else ("ccsd" if "ccsd" in levels else "mp2")
         if finals:
             calc.energies_hartree[top] = finals[-1]
+    elif finals and rocis and scf_totals:
+        # ROCIS: "FINAL SINGLE POINT ENERGY -380.892798900059" is the ROCIS root 0 ("E[ 0] =
+        # -380.8927989001"), kept as its own level; the reference is the SCF ("Total Energy :")
+        calc.energies_hartree["scf"] = scf_totals[-1]
+        calc.energies_hartree["rocis"] = finals[-1]
+        calc.scf_energy_hartree = scf_totals[-1]
+        td_total = True
     elif finals and "EXCITED STATES" in text and scf_totals:
         # TD-DFT/CIS: FINAL SINGLE POINT ENERGY is the total energy of the followed root
         # (E(SCF) + E(root 1) by default), not the ground state: take the SCF total.
@@ -141,7 +161,7 @@ def apply(calc, text: str, data) -> None:
         calc.orbitals = orbitals
         calc.level.unrestricted = len(orbitals.energies_hartree) == 2
 
-    states = excited_states(text)
+    states = orca_blocks.rocis_states(text, calc.multiplicity) if rocis else excited_states(text)
     for st in states:  # ORCA 5 prints no irreps in the STATE lines; cclib found them elsewhere
         if st.symmetry and "-" not in st.symmetry:
             twin = next((x for x in calc.excited_states if abs(x.energy_cm1 - st.energy_cm1) < 0.05 and x.symmetry), None)
@@ -150,6 +170,9 @@ def apply(calc, text: str, data) -> None:
     if states:
         calc.excited_states = states
 
+    vib = orca_blocks.vibrations(text)
+    if vib is not None:  # the same numbers as cclib's on ORCA 5 (tests/test_reading_levels.py)
+        calc.vibrations = vib
     _thermo(calc, text)
 
     dip = re.findall(r"\nTotal Dipole Moment\s+:\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", text)
@@ -158,19 +181,24 @@ def apply(calc, text: str, data) -> None:
 
 
 def _solvation(text, kw, blocks):
+    """'SMD (toluene, eps=2.3741)', 'CPCM (eps=2.3741)': model from the input, solvent and
+    dielectric as the log prints them ("Solvent: ... TOLUENE", "Epsilon ... 2.3741")."""
     model = None
     for k in kw:
         m = re.match(r"(cpcm|smd|cpcmc|ddcosmo|alpb)(?:\((.*)\))?$", k)
         if m:
             model = {"cpcm": "CPCM", "cpcmc": "CPCM (COSMO epsilon)", "smd": "SMD", "ddcosmo": "ddCOSMO", "alpb": "ALPB"}[m.group(1)]
-    if "smd true" in blocks:
+    if "smd true" in blocks or re.search(r"\n\|\s*\d+>\s+smd\s+true", text, re.I) or "utilizes the SMD solvation module" in text:
         model = "SMD"
     if model is None and "CPCM SOLVATION MODEL" in text:
         model = "CPCM"
     if model is None:
         return None
     eps = last_float(r"Epsilon\s+\.\.\.\s+(" + FLOAT + ")", text)
-    return f"{model} (eps={eps:g})" if eps is not None else model
+    solvent = re.search(r"\nSolvent:\s+\.\.\.\s+(\S+)", text)
+    solvent = solvent if solvent and solvent.group(1).upper() != "CUSTOM" else None  # eps/refrac set by hand
+    inner = ", ".join(x for x in (solvent.group(1).lower() if solvent else None, f"eps={eps:g}" if eps is not None else None) if x)
+    return f"{model} ({inner})" if inner else model
 
 
 def _population_block(text, title, n_atoms):

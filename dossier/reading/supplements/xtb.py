@@ -8,6 +8,8 @@
 - Multiplicity: xtb prints none; it is 1 + the --uhf count (default 0 for an even number
   of electrons, else 1), from the program call.
 - Job kinds, GFN level and implicit solvation (ALPB/GBSA, solvent and dielectric).
+- The coordinate file the run read ("coordinate file            : dvb_ir.xyz"): single points
+  and Hessian runs print no coordinates, so dossier.reading.coordfile takes them from it.
 """
 from __future__ import annotations
 
@@ -25,6 +27,9 @@ def apply(calc, text: str, data) -> None:
     m = re.search(r"\* xtb version (\S+)", text)
     if m:
         calc.program_version = m.group(1)
+    cf = re.search(r"^\s*coordinate file\s*:\s*(\S+)\s*$", text[:20000], re.M)
+    if cf:
+        calc.coordinate_file = cf.group(1)
     call = last_match(r"program call\s*:\s*(.*)$", text, re.M)
     args = call.group(1).split() if call else []
     if any(a in ("--opt", "--ohess", "-o") or a.startswith("--opt") for a in args):
