@@ -110,12 +110,12 @@ CORRELATED = {"mp2": "MP2", "rimp2": "MP2", "ccd": "CCD", "ccsd": "CCSD", "ccsd(
 
 #: the summary of a correlated run: "MP2 energy = -75.00228210", "CCD total energy = -75.01737790"
 LEVEL_LINES = (
-    ("mp2", r"\nMP2 energy\s+=\s*(" + FLOAT + ")"),
-    ("ccd", r"\nCCD total energy\s+=\s*(" + FLOAT + ")"),
-    ("ccsd", r"\nCCSD total energy\s+=\s*(" + FLOAT + ")"),
-    ("ccsd(t)", r"\nCCSD\(T\) total energy\s+=\s*(" + FLOAT + ")"),
-    ("qcisd", r"\nQCISD total energy\s+=\s*(" + FLOAT + ")"),
-    ("qcisd(t)", r"\nQCISD\(T\) total energy\s+=\s*(" + FLOAT + ")"),
+    ("mp2", r"\n\s*MP2 energy\s+=\s*(" + FLOAT + ")"),
+    ("ccd", r"\n\s*CCD total energy\s+=\s*(" + FLOAT + ")"),
+    ("ccsd", r"\n\s*CCSD total energy\s+=\s*(" + FLOAT + ")"),
+    ("ccsd(t)", r"\n\s*CCSD\(T\) total energy\s+=\s*(" + FLOAT + ")"),
+    ("qcisd", r"\n\s*QCISD total energy\s+=\s*(" + FLOAT + ")"),
+    ("qcisd(t)", r"\n\s*QCISD\(T\) total energy\s+=\s*(" + FLOAT + ")"),
 )
 
 
