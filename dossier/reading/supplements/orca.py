@@ -60,83 +60,8 @@ def apply(calc, text: str, data) -> None:
     if any(k in kw for k in ("freq", "numfreq", "anfreq")):
         calc.job_kinds.append("frequencies")
 
-    # Level of theory
-    lvl = calc.level
-    functional = next((k for k in kw if k in FUNCTIONALS), None)
-    post = next((k for k in kw if re.fullmatch(r"(dlpno-)?(ccsd\(t\)|ccsd|qcisd\(t\)|mp2|ri-mp2|scs-mp2|cisd)", k)), None)
-    if post:
-        lvl.method, lvl.functional = post.upper(), None
-    elif functional:
-        lvl.method, lvl.functional = "DFT", functional.upper()
-    elif "Hartree-Fock(GTOs)" in text and "Exchange Functional" not in text:
-        lvl.method, lvl.functional = "HF", None
-    hftyp = last_match(r"Hartree-Fock type\s+HFTyp\s+\.\.\.\.\s+(\w+)", text)
-    if hftyp:
-        lvl.unrestricted = hftyp.group(1).upper() == "UHF"
-    elif any(k in kw for k in ("uhf", "uks")):
-        lvl.unrestricted = True
-    b = re.search(r"Your calculation utilizes the basis: (\S+)", text)
-    if b:
-        lvl.basis = b.group(1)
-    disp = next((DISPERSION[k] for k in kw if k in DISPERSION), None)
-    if disp is None and re.search(r"DFT DISPERSION CORRECTION", text):
-        disp = "D3(BJ)" if "BJ" in text[text.find("DFT DISPERSION CORRECTION"):][:3000] else "D3"
-    lvl.dispersion = disp
-    solv = _solvation(text, kw, blocks)
-    if solv:
-        lvl.solvation = solv
-
-    # <S^2>
-    s2 = last_float(r"Expectation value of <S\*\*2>\s*:\s*(" + FLOAT + ")", text)
-    if s2 is not None:
-        calc.s2 = s2
-
-    # Excited-state method (its ground-state reference is the reported level)
-    rocis = "ORCA ROCIS CALCULATION" in text
-    td = re.search(r"\n(TD-DFT/TDA|TD-DFT|CIS) EXCITED STATES", text)
-    if rocis:
-        lvl.excited_method = "ROCIS"
-    elif td:
-        lvl.excited_method = {"TD-DFT/TDA": "TDDFT/TDA", "TD-DFT": "TDDFT"}.get(td.group(1), td.group(1))
-
-    # Energies
-    finals = all_floats(r"\nFINAL SINGLE POINT ENERGY\s+(" + FLOAT + ")", text)
-    scf_totals = all_floats(r"\nTotal Energy\s+:\s+(" + FLOAT + r") Eh", text)
-    levels = {}
-    td_total = False
-    for name, pat in (("mp2", r"MP2 TOTAL ENERGY:\s+(" + FLOAT + ")"),
-                      ("ccsd", r"\nE\(CCSD\)\s+\.\.\.\s+(" + FLOAT + ")"),
-                      ("ccsd(t)", r"\nE\(CCSD\(T\)\)\s+\.\.\.\s+(" + FLOAT + ")")):
-        v = last_float(pat, text)
-        if v is not None:
-            levels[name] = v
-    if levels:
-        calc.energies_hartree = dict(levels)
-        if scf_totals:
-            calc.energies_hartree = {"scf": scf_totals[-1], **levels}
-            calc.scf_energy_hartree = scf_totals[-1]
-        top = "ccsd(t)" if "ccsd(t)" in levels else ("ccsd" if "ccsd" in levels else "mp2")
-        if finals:
-            calc.energies_hartree[top] = finals[-1]
-    elif finals and rocis and scf_totals:
-        # ROCIS: "FINAL SINGLE POINT ENERGY -380.892798900059" is the ROCIS root 0 ("E[ 0] =
-        # -380.8927989001"), kept as its own level; the reference is the SCF ("Total Energy :")
-        calc.energies_hartree["scf"] = scf_totals[-1]
-        calc.energies_hartree["rocis"] = finals[-1]
-        calc.scf_energy_hartree = scf_totals[-1]
-        td_total = True
-    elif finals and "EXCITED STATES" in text and scf_totals:
-        # TD-DFT/CIS: FINAL SINGLE POINT ENERGY is the total energy of the followed root
-        # (E(SCF) + E(root 1) by default), not the ground state: take the SCF total.
-        disp = last_float(r"\nDispersion correction\s+(" + FLOAT + ")", text) or 0.0
-        calc.energies_hartree["scf"] = scf_totals[-1] + disp
-        calc.scf_energy_hartree = calc.energies_hartree["scf"]
-        td_total = True
-    elif finals:
-        calc.energies_hartree["scf"] = finals[-1]
-        calc.scf_energy_hartree = finals[-1]
-    if finals and not td_total:
-        calc.optimization_energies_hartree = finals if "optimization" in calc.job_kinds else finals[-1:]
+    rocis = _level(calc, text, kw, blocks)
+    _energies(calc, text, rocis)
 
     # Populations (last block of each scheme)
     for scheme, title in (("mulliken", "MULLIKEN ATOMIC CHARGES"), ("lowdin", "LOEWDIN ATOMIC CHARGES")):
@@ -178,6 +103,90 @@ def apply(calc, text: str, data) -> None:
     dip = re.findall(r"\nTotal Dipole Moment\s+:\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", text)
     if dip:
         calc.dipole_debye = [float(v) * AU_DIPOLE_DEBYE for v in dip[-1]]
+
+
+def _level(calc, text, kw, blocks) -> bool:
+    """Level of theory, <S^2> and the excited-state method; True for a ROCIS job."""
+    lvl = calc.level
+    functional = next((k for k in kw if k in FUNCTIONALS), None)
+    post = next((k for k in kw if re.fullmatch(r"(dlpno-)?(ccsd\(t\)|ccsd|qcisd\(t\)|mp2|ri-mp2|scs-mp2|cisd)", k)), None)
+    if post:
+        lvl.method, lvl.functional = post.upper(), None
+    elif functional:
+        lvl.method, lvl.functional = "DFT", functional.upper()
+    elif "Hartree-Fock(GTOs)" in text and "Exchange Functional" not in text:
+        lvl.method, lvl.functional = "HF", None
+    hftyp = last_match(r"Hartree-Fock type\s+HFTyp\s+\.\.\.\.\s+(\w+)", text)
+    if hftyp:
+        lvl.unrestricted = hftyp.group(1).upper() == "UHF"
+    elif any(k in kw for k in ("uhf", "uks")):
+        lvl.unrestricted = True
+    b = re.search(r"Your calculation utilizes the basis: (\S+)", text)
+    if b:
+        lvl.basis = b.group(1)
+    disp = next((DISPERSION[k] for k in kw if k in DISPERSION), None)
+    if disp is None and re.search(r"DFT DISPERSION CORRECTION", text):
+        disp = "D3(BJ)" if "BJ" in text[text.find("DFT DISPERSION CORRECTION"):][:3000] else "D3"
+    lvl.dispersion = disp
+    solv = _solvation(text, kw, blocks)
+    if solv:
+        lvl.solvation = solv
+
+    # <S^2>
+    s2 = last_float(r"Expectation value of <S\*\*2>\s*:\s*(" + FLOAT + ")", text)
+    if s2 is not None:
+        calc.s2 = s2
+
+    # Excited-state method (its ground-state reference is the reported level)
+    rocis = "ORCA ROCIS CALCULATION" in text
+    td = re.search(r"\n(TD-DFT/TDA|TD-DFT|CIS) EXCITED STATES", text)
+    if rocis:
+        lvl.excited_method = "ROCIS"
+    elif td:
+        lvl.excited_method = {"TD-DFT/TDA": "TDDFT/TDA", "TD-DFT": "TDDFT"}.get(td.group(1), td.group(1))
+
+    return rocis
+
+
+def _energies(calc, text, rocis) -> None:
+    finals = all_floats(r"\nFINAL SINGLE POINT ENERGY\s+(" + FLOAT + ")", text)
+    scf_totals = all_floats(r"\nTotal Energy\s+:\s+(" + FLOAT + r") Eh", text)
+    levels = {}
+    td_total = False
+    for name, pat in (("mp2", r"MP2 TOTAL ENERGY:\s+(" + FLOAT + ")"),
+                      ("ccsd", r"\nE\(CCSD\)\s+\.\.\.\s+(" + FLOAT + ")"),
+                      ("ccsd(t)", r"\nE\(CCSD\(T\)\)\s+\.\.\.\s+(" + FLOAT + ")")):
+        v = last_float(pat, text)
+        if v is not None:
+            levels[name] = v
+    if levels:
+        calc.energies_hartree = dict(levels)
+        if scf_totals:
+            calc.energies_hartree = {"scf": scf_totals[-1], **levels}
+            calc.scf_energy_hartree = scf_totals[-1]
+        top = "ccsd(t)" if "ccsd(t)" in levels else ("ccsd" if "ccsd" in levels else "mp2")
+        if finals:
+            calc.energies_hartree[top] = finals[-1]
+    elif finals and rocis and scf_totals:
+        # ROCIS: "FINAL SINGLE POINT ENERGY -380.892798900059" is the ROCIS root 0 ("E[ 0] =
+        # -380.8927989001"), kept as its own level; the reference is the SCF ("Total Energy :")
+        calc.energies_hartree["scf"] = scf_totals[-1]
+        calc.energies_hartree["rocis"] = finals[-1]
+        calc.scf_energy_hartree = scf_totals[-1]
+        td_total = True
+    elif finals and "EXCITED STATES" in text and scf_totals:
+        # TD-DFT/CIS: FINAL SINGLE POINT ENERGY is the total energy of the followed root
+        # (E(SCF) + E(root 1) by default), not the ground state: take the SCF total.
+        disp = last_float(r"\nDispersion correction\s+(" + FLOAT + ")", text) or 0.0
+        calc.energies_hartree["scf"] = scf_totals[-1] + disp
+        calc.scf_energy_hartree = calc.energies_hartree["scf"]
+        td_total = True
+    elif finals:
+        calc.energies_hartree["scf"] = finals[-1]
+        calc.scf_energy_hartree = finals[-1]
+    if finals and not td_total:
+        calc.optimization_energies_hartree = finals if "optimization" in calc.job_kinds else finals[-1:]
+
 
 
 def _solvation(text, kw, blocks):
