@@ -38,6 +38,7 @@ from dossier.analysis.energies import _Energies
 from dossier.analysis.pathways import _pathway_entry
 from dossier.analysis.profiles import _energy_profiles, _isomer_populations
 from dossier.analysis.states import _bridge_atoms, _redox_sites, _state_entry
+from dossier.analysis.transfers import transfer_entries
 
 
 class _Context:
@@ -143,6 +144,9 @@ def analyse(project, *, progress=None) -> dict:
         g = comparison.place_g_values(ctx.experiment_data)
         if vib or g:
             out["experiment_placements"] = {"vibrations": vib, "g_values": g}
+    transfers = transfer_entries(project, ctx.t_ref)
+    if transfers:
+        out["transfers"] = transfers
     out["sources"] = source_entries(project)
     add_headlines(out)
     out["report"] = report_choices(out)

@@ -554,6 +554,15 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
         add(populations_figure(rows), f"populations-{n}", "populations", f"Populations of {family}",
             f"Boltzmann populations of isomer family {family} (recipe {recipe}, from {basis or 'relative'} energies) at each temperature.",
             {"family": family, "recipe": recipe})
+    from dossier.report.transfer_figures import scan_figure, wants_scan_figure
+
+    for n, tr in enumerate(data.get("transfers") or []):
+        if wants_scan_figure(tr):
+            who = (tr.get("carrier") or "charge").capitalize()
+            add(scan_figure(tr), f"transfer-{n}", "transfers", f"{who} coupling against separation ({tr['name']})",
+                "Coupling H_ab by route (markers) with the exponential fit (lines); right: golden-rule rate with "
+                "lambda = lambda_in + lambda_out (crosses: 2H_ab/lambda >= 1, no hopping rate applies).",
+                {"transfer": tr["name"]})
     sites = sites_of(data)
     for n, st in enumerate(data.get("states", [])):
         if st.get("elements") and st.get("coordinates_angstrom"):

@@ -42,6 +42,7 @@ SECTIONS = [
     ("localization.html", "localization", "Where the electron sits"),
     ("marcus.html", "marcus", "Electron-transfer parameters"),
     ("rates.html", "rates", "Rate estimates and method ladder"),
+    ("transfers.html", "transfers", "Transfers between molecules (parameters from routes, no transition state)"),
     ("experiment.html", "experiment", "Comparison with experiment"),
     ("states.html", "states", "States: structures, energies, frequencies"),
     ("provenance.html", "provenance", "Provenance of every number"),
@@ -354,6 +355,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "localization": bool(localization_rows(data)),
         "marcus": bool(data.get("pathways")), "rates": any(p.get("rates") or p.get("ladder") for p in data.get("pathways", [])),
         "experiment": any(p.get("experiment") for p in data.get("pathways", [])),
+        "transfers": bool(data.get("transfers")),
         "states": bool(data.get("states")), "provenance": True, "references": True,
     }
     sections = [{"file": f, "id": i, "title": t} for f, i, t in SECTIONS if present[i]]
