@@ -149,7 +149,8 @@ def _coupling_entry(project, tr, c) -> dict:
     """One coupling route of a transfer: value, separation, and how it was obtained."""
     if c.route == "value":
         return {"route": "value", "value_cm1": c.coupling_cm1, "separation_angstrom": c.separation_angstrom,
-                "provenance": _prov([], [], None, "entered in the manifest", source=c.source, note=c.note)}
+                "provenance": _prov([], [], "entered in the manifest", "entered in the manifest", source=c.source,
+                                    note=c.note)}
     rec = c.record
     if rec.status.word != "ok":
         raise cp.CouplingError(f"'{c.file_label}' did not finish normally ({rec.status.word})")
@@ -288,7 +289,8 @@ def _rates(tr, points: list[dict], lam: dict | None, dg: dict | None, sol: dict 
 def _statements(tr, lam: dict | None, dg: dict | None, scans: list[dict]) -> list[str]:
     who = tr.carrier or "charge"
     kind = "self-exchange" if tr.kind == "self-exchange" else "cross"
-    out = [f"{who.capitalize()} transfer ({kind}); the carrier is a {who} because {tr.carrier_reason}."
+    article = "an" if who[0] in "aeiou" else "a"
+    out = [f"{who.capitalize()} transfer ({kind}); the carrier is {article} {who} because {tr.carrier_reason}."
            if tr.carrier else f"The carrier could not be named: {tr.carrier_reason}."]
     if lam is not None:
         out.append(f"The {who}'s inner-sphere reorganization energy is {lam['value_kj_mol']:.1f} kJ/mol at "

@@ -19,6 +19,7 @@ from dossier.project.model import (
     DEFAULT_RECIPE, LEVEL_PARAMETERS, IsomerFamily, Manifest, Pathway, PathwaySpec, Project, Recipe, State,
     StateSpec, _norm,
 )
+from dossier.project.transfers import bind_transfers
 from dossier.records import Calculation
 
 
@@ -161,7 +162,7 @@ def bind(manifest: Manifest, records: Mapping[Path, Calculation]) -> Project:
         manifest_path=m.path, root=m.root, title=m.title, authors=list(m.authors), settings=m.settings,
         states=states, sites={k: list(v) for k, v in m.sites.items()}, pathways=pathways,
         isomer_families=families, recipes=recipes, uncertainty=m.uncertainty, experiment=m.experiment,
-        manifest=m, records=by_path, warnings=list(m.warnings),
+        manifest=m, records=by_path, warnings=list(m.warnings), transfers=bind_transfers(m, by_path),
     )
 
 

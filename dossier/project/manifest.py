@@ -28,9 +28,11 @@ from dossier.project.model import (
     DEFAULT_RECIPE, ENERGY_UNITS, FOUR_POINT_KEYS, LEVEL_PARAMETERS, QRRHO_MODES, ROLES, STANDARD_STATES,
     THERMAL_SOURCES, FamilySpec, Manifest, PathwaySpec, Recipe, Settings, StateSpec, _norm,
 )
+from dossier.project.transfers import transfers_table
 from dossier.units import TEMPERATURE_RANGE_K
 
-_TOP_KEYS = ("project", "sites", "states", "recipes", "pathways", "isomer_families", "uncertainty", "experiment")
+_TOP_KEYS = ("project", "sites", "states", "recipes", "pathways", "isomer_families", "transfers", "uncertainty",
+             "experiment")
 _PROJECT_KEYS = (
     "title", "authors", "temperatures_k", "energy_unit", "standard_state", "qrrho",
     "frequency_scale", "imaginary_threshold_cm1",
@@ -238,7 +240,7 @@ class _Refs:
         if name in self.profile_names:
             raise self.v.fail(key + ("name",), f"name '{name}' is used twice (also at line "
                                                f"{self.v.loc.line_of(self.profile_names[name])}); "
-                                               "give each pathway and family its own name")
+                                               "give each pathway, family and transfer its own name")
         self.profile_names[name] = key + ("name",)
         return name
 
@@ -339,7 +341,7 @@ def _state(st: Any, name: str, v: _Validator, files: _Files) -> StateSpec:
 def _states_table(raw: dict, v: _Validator, files: _Files) -> dict[str, StateSpec]:
     """[states.*]: at least one state, each with a geometry file."""
     states_raw = v.table(raw.get("states", {}), ("states",), "one [states.NAME] table per state")
-    if not states_raw:
+    if not states_raw and not raw.get("transfers"):
         raise ManifestError("no states: add at least one [states.NAME] table with geometry = \"FILE\"",
                             where=f"{v.display}:1")
     return {name: _state(st, name, v, files) for name, st in states_raw.items()}
@@ -552,6 +554,7 @@ def load_manifest(path: str | Path) -> Manifest:
     pathways = _pathways_table(raw, v, refs, files)
     families = _families_table(raw, v, refs)
     _check_recipes_apply(v, refs, pathways, families)
+    transfers = transfers_table(raw, v, refs, files)
     uncertainty = _passthrough_table(raw, v, "uncertainty")
     experiment = _passthrough_table(raw, v, "experiment")
 
@@ -559,5 +562,5 @@ def load_manifest(path: str | Path) -> Manifest:
         path=abspath, display_name=display, root=root, title=title, authors=authors, settings=settings,
         sites=sites, states=states, recipes=recipes, pathways=pathways, isomer_families=families,
         uncertainty=uncertainty, experiment=experiment, raw=raw,
-        file_labels=files.labels, file_lines=files.lines, warnings=[], _locator=loc,
+        file_labels=files.labels, file_lines=files.lines, warnings=[], transfers=transfers, _locator=loc,
     )

@@ -121,6 +121,7 @@ class Manifest:
     #: absolute path -> manifest line of the first key that names it
     file_lines: dict[Path, int] = field(default_factory=dict)
     warnings: list[str] = field(default_factory=list)
+    transfers: list[Any] = field(default_factory=list)  # dossier.project.transfers.TransferSpec
     _locator: "Locator | None" = field(default=None, repr=False)
 
     def all_files(self) -> list[Path]:
@@ -205,6 +206,7 @@ class Project:
     manifest: Manifest | None = None
     records: dict[Path, Calculation] = field(default_factory=dict)  # absolute path -> record
     warnings: list[str] = field(default_factory=list)
+    transfers: list[Any] = field(default_factory=list)  # dossier.project.transfers.Transfer
 
     def label(self, item: Calculation | Path | str) -> str:
         """The path of a record or file as the manifest writes it (relative to the manifest)."""

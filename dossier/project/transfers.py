@@ -324,7 +324,8 @@ def bind_transfer(m, spec: TransferSpec, by_path: dict[Path, Calculation]) -> Tr
     cross = bool(spec.donor_four_point)
     donor_paths = spec.donor_four_point if cross else spec.four_point
     acceptor_paths = spec.acceptor_four_point if cross else spec.four_point
-    donor, acceptor = records(donor_paths), records(acceptor_paths)
+    donor = records(donor_paths)
+    acceptor = records(acceptor_paths) if cross else donor
     for which, sets in (("donor_four_point", donor), ("acceptor_four_point", acceptor)) if cross else \
             (("four_point", donor),):
         for label, recs in sets.items():
