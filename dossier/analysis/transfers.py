@@ -173,7 +173,8 @@ def _coupling_entry(project, tr, c) -> dict:
         x = rec.excited_states[idx]
         entry.update(root=idx + 1, root_reason=why, excitation_cm1=x.energy_cm1, excitation_ev=x.energy_ev,
                      oscillator_strength=x.oscillator_strength, axis_cosine=cos)
-        level = f"{rec.level.excited_method or 'TD'}-{level}" if rec.level.excited_method else f"TD {level}"
+        method = getattr(rec.level, "excited_method", None) or ("TDDFT" if rec.level.functional else "excited states")
+        level = f"{method} {level}"
         if c.route == "charge-resonance":
             entry["value_cm1"] = cp.coupling_from_charge_resonance_cm1(x.energy_cm1)
             formula = (f"H_ab = E_CR / 2, {why} (Newton, Chem. Rev. 1991, 91, 767; Brunschwig, Creutz, Sutin, "

@@ -1,0 +1,162 @@
+"""The manifest's [[transfers]] (dossier.project.transfers) and its analysis and report
+(dossier.analysis.transfers, templates/transfers.html) on real outputs: the demo's four-point set
+(nitrobenzene / its radical anion) and a tiny H2 dimer run by NWChem."""
+from __future__ import annotations
+
+import re
+import shutil
+
+import pytest
+from scipy import constants as sc
+
+from dossier.analysis.assemble import analyse
+from dossier.errors import ManifestError
+from dossier.project import load_manifest, load_project
+from dossier.report.figures import make_figures
+from dossier.report.render import render_html
+from tests.conftest import demo_path
+
+FOUR_POINT = """
+[transfers.four_point.bhlyp]
+reactant_at_reactant = "fourpoint/neutral_opt.out"
+reactant_at_product  = "fourpoint/neutral_at_anion.out"
+product_at_product   = "fourpoint/anion_opt.out"
+product_at_reactant  = "fourpoint/anion_at_neutral.out"
+"""
+VALUES = "".join(f"""
+[[transfers.couplings]]
+route = "value"
+coupling_cm1 = {h}
+separation_angstrom = {r}
+source = "invented for the test"
+""" for h, r in ((300.0, 3.6), (100.0, 4.6), (35.0, 5.6)))
+
+
+@pytest.fixture()
+def study(tmp_path):
+    """A folder with the demo's four-point files (copied: inputs are never touched)."""
+    shutil.copytree(demo_path("fourpoint"), tmp_path / "fourpoint")
+    return tmp_path
+
+
+def _write(folder, text: str):
+    path = folder / "dossier.toml"
+    path.write_text(text)
+    return path
+
+
+def _printed(path) -> float:
+    return float(re.findall(r"Total DFT energy =\s+(\S+)", open(path).read())[-1])
+
+
+def test_electron_self_exchange_end_to_end(study):
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT + VALUES
+                  + '\n[transfers.solvent]\nname = "acetonitrile"\n')
+    data = analyse(load_project(path))
+    tr = data["transfers"][0]
+    assert tr["carrier"] == "electron"  # the set pairs the neutral with the radical anion
+    e = [_printed(study / f"fourpoint/{n}.out") for n in ("neutral_opt", "neutral_at_anion", "anion_opt",
+                                                          "anion_at_neutral")]
+    hartree_kj_mol = sc.physical_constants["Hartree energy"][0] * sc.N_A / 1000  # CODATA
+    lam = tr["reorganization_energy"]["quoted"]
+    # the logs' own printed energies, four-point sum (Nelsen et al. 1987)
+    assert lam["value_kj_mol"] == pytest.approx(((e[1] - e[0]) + (e[3] - e[2])) * hartree_kj_mol, rel=1e-9)
+    assert tr["driving_force"]["quoted"]["value_kj_mol"] == 0.0
+    fit = tr["scans"][0]["fit"]
+    assert fit["n_points"] == 3 and fit["beta_per_angstrom"] > 0
+    rates = tr["rates"]
+    assert [r["separation_angstrom"] for r in rates] == [3.6, 4.6, 5.6]
+    # lambda_total = lambda_in + lambda_out, both shown; the outer part grows with R (two-sphere model)
+    assert all(r["reorganization_total_kj_mol"] == pytest.approx(r["reorganization_inner_kj_mol"]
+                                                                 + r["reorganization_outer_kj_mol"]) for r in rates)
+    assert rates[0]["reorganization_outer_kj_mol"] < rates[-1]["reorganization_outer_kj_mol"]
+    assert all("electron" in s or "driving force" in s for s in tr["statements"])
+    assert not any("hole" in s for s in tr["statements"])
+
+
+def test_report_names_only_what_the_data_are(study):
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT + VALUES)
+    data = analyse(load_project(path))
+    html_text = render_html(data, make_figures(data))
+    section = html_text[html_text.index('id="transfers"'):]
+    section = re.sub(r"<svg.*?</svg>", "", section, flags=re.S)
+    assert "Electron transfer nb" in section
+    assert "barrier" not in section.lower() and "ΔG‡" not in section
+    assert "ΔE°" in section and "zero by symmetry" in section
+    assert "hole" not in section.lower()
+
+
+@pytest.mark.slow
+def test_hole_routes_on_a_real_dimer(tmp_path, h2_runs):
+    shutil.copy(h2_runs["neutral"], tmp_path / "neutral.out")
+    shutil.copy(h2_runs["cation"], tmp_path / "cation.out")
+    path = _write(tmp_path, """
+[sites]
+a = [1, 2]
+b = [3, 4]
+[[transfers]]
+name = "h2"
+driving_force = "symmetry"
+donor_site = "a"
+acceptor_site = "b"
+[[transfers.couplings]]
+route = "charge-resonance"
+file = "cation.out"
+[[transfers.couplings]]
+route = "orbital-splitting"
+file = "neutral.out"
+[[transfers.couplings]]
+route = "gmh"
+file = "cation.out"
+dipole_difference_au = 0.0
+dipole_difference_source = "zero by the symmetry of the dimer"
+""")
+    tr = analyse(load_project(path))["transfers"][0]
+    assert tr["carrier"] == "hole"  # the dimer ion is a cation
+    by_route = {c["route"]: c for c in tr["couplings"]}
+    assert set(by_route) == {"charge-resonance", "orbital-splitting", "gmh"}
+    assert by_route["charge-resonance"]["root"] == 1
+    assert by_route["orbital-splitting"]["orbitals"] == ["HOMO-1", "HOMO"]
+    # GMH with no dipole difference is half the gap (Cave & Newton 1996), i.e. the CR route
+    assert by_route["gmh"]["value_cm1"] == pytest.approx(by_route["charge-resonance"]["value_cm1"], rel=1e-12)
+    assert by_route["charge-resonance"]["separation_angstrom"] == pytest.approx(3.0, abs=1e-6)  # the input geometry
+    assert not tr["rates"]  # no four-point set: no lambda, no rate
+
+
+@pytest.mark.parametrize("body, message", [
+    ('name = "x"\n' + FOUR_POINT, "needs 'driving_force'"),
+    ('name = "x"\ndriving_force = "guess"\n' + FOUR_POINT, "is not one of: symmetry, fragments, states"),
+    ('name = "x"\ndriving_force = "fragments"\n' + FOUR_POINT, "takes the energies of donor_four_point"),
+    ('name = "x"\ndriving_force = "symmetry"\nbarrier = 1\n', "unknown key 'barrier'"),
+    ('name = "x"\ndriving_force = "symmetry"\n[[transfers.couplings]]\nroute = "value"\ncoupling_cm1 = 10.0\n',
+     "needs 'source'"),
+    ('name = "x"\ndriving_force = "symmetry"\n[[transfers.couplings]]\nroute = "koopmans"\nfile = "a"\n',
+     "is not one of: charge-resonance, orbital-splitting, gmh, value"),
+    ('name = "x"\ndriving_force = "symmetry"\n[transfers.four_point.dft]\nreactant_at_reactant = '
+     '"fourpoint/neutral_opt.out"\n', "needs all of"),
+    ('name = "x"\ndriving_force = "symmetry"\n[transfers.solvent]\nname = "seawater"\n', "is not in the table"),
+    ('name = "x"\ndriving_force = "symmetry"\n[transfers.solvent]\nrefractive_index = 1.4\nstatic_dielectric = 1.2'
+     '\nsource = "s"\n', "1 <= refractive_index^2 <= static_dielectric"),
+])
+def test_manifest_errors_name_the_line(study, body, message):
+    path = _write(study, "[[transfers]]\n" + body)
+    with pytest.raises(ManifestError, match=re.escape(message)) as info:
+        load_manifest(path)
+    assert re.match(r".*dossier\.toml:\d+: ", str(info.value))
+
+
+def test_a_set_whose_charges_do_not_differ_by_one_is_an_error(study):
+    bad = FOUR_POINT.replace("fourpoint/anion_opt.out", "fourpoint/neutral_opt.out").replace(
+        "fourpoint/anion_at_neutral.out", "fourpoint/neutral_at_anion.out")
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + bad)
+    with pytest.raises(ManifestError, match="charges must differ by one"):
+        load_project(path)
+
+
+@pytest.mark.slow
+def test_hole_and_electron_files_in_one_transfer_are_an_error(study, h2_runs):
+    shutil.copy(h2_runs["cation"], study / "cation.out")
+    path = _write(study, '[[transfers]]\nname = "x"\ndriving_force = "symmetry"\n' + FOUR_POINT
+                  + '[[transfers.couplings]]\nroute = "charge-resonance"\nfile = "cation.out"\n')
+    with pytest.raises(ManifestError, match="disagree on the carrier"):
+        load_project(path)
