@@ -123,3 +123,33 @@ def test_headline_is_the_first_valid_model_of_the_stated_preference():
         r["validity"] = {"valid": False, "note": "fails"}
     rate, reason, supported = decisions.headline(pw, [])
     assert rate is None and reason.startswith("no rate model applies") and supported["statement"]
+
+
+def test_invalid_rungs_do_not_enter_the_closest_rung_statement():
+    """The ladder's "closest rung" is chosen among rungs whose model is valid at that temperature; the log10
+    ratios are plain differences of log10 k (no outside number needed)."""
+    from dossier.analysis.experiment import compare_ladder
+
+    measured = [{"temperature_k": 298.15, "rate_per_s": 1e6, "log10_rate": 6.0}]
+    pw = {"ladder": [
+        {"recipe": "close-but-invalid", "rates": [dict(_entry("marcus", False, k=1.1e6))]},
+        {"recipe": "far-valid", "rates": [dict(_entry("marcus", True, k=1e8))]},
+        {"recipe": "farther-valid", "rates": [dict(_entry("marcus", True, k=1e9))]},
+    ]}
+    rows = compare_ladder(pw, measured)
+    best = [r for r in rows if r["closest_to_experiment"]]
+    assert [r["recipe"] for r in best] == ["far-valid"]
+    assert best[0]["log10_ratio"] == pytest.approx(2.0)
+    assert "far-valid comes closest" in best[0]["statement"] and "Of the 2 rungs" in best[0]["statement"]
+    invalid = next(r for r in rows if r["recipe"] == "close-but-invalid")
+    assert invalid["validity"] == {"valid": False, "note": "marcus fails"}
+
+
+def test_rates_csv_has_the_verdict_and_the_json_note():
+    from dossier.report.exports import CSV_TABLES
+
+    header, rows_of = CSV_TABLES["rates.csv"]
+    pw = {"name": "p", "rates": [_entry("marcus", False), _entry("eyring-tst", True)]}
+    rows = [dict(zip(header, r)) for r in rows_of({"pathways": [pw]})]
+    assert [(r["validity"], r["validity_note"]) for r in rows] == [("not valid", "marcus fails"),
+                                                                  ("valid", "eyring-tst holds")]

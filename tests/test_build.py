@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import hashlib
+import html
 import json
 import os
 import re
@@ -292,3 +293,13 @@ def test_demo_headline_is_null_and_the_summary_says_why(demo_build):
         assert sup["vibrational_period_fs"] == pytest.approx(period, rel=1e-9)
         assert f"{period:.0f} fs" in sup["statement"] and sup["statement"] in html_text.replace("&#39;", "'")
         assert "No rate constant is quoted" in html_text
+    # every rate row and every ladder rate prints its verdict with the JSON's note, word for word
+    plain = html.unescape(html_text)
+    for pw in result.data["pathways"]:
+        for r in pw["rates"] + [x for rung in pw["ladder"] for x in rung["rates"]]:
+            assert r["validity"]["note"] in plain, r["model"]
+        for e in pw["experiment"]["rates"]:
+            assert f"not valid</b>: {e['computed_validity']['note']}" in plain
+        assert not any(r["closest_to_experiment"] for r in pw["experiment"].get("ladder", []))
+    csv_text = (result.out_dir / "rates.csv").read_text()
+    assert csv_text.splitlines()[0].endswith(",validity,validity_note") and ",valid," not in csv_text

@@ -129,15 +129,18 @@ def test_barrier_shift_definition():
 
 
 def _pathway(rate, lo68, hi68, lo95, hi95, t=T):
+    ok = {"valid": True, "note": "transition-state theory applies"}  # every rate entry carries a verdict
     return {"name": "a_to_b", "reorganization_energy_kj_mol": 95.0, "coupling_cm1": 900.0,
             "routes": {"reorganization_energy": [{"route": "four-point", "value_kj_mol": 95.0}],
                        "coupling": [{"route": "half-splitting-at-ts", "value_cm1": 900.0}]},
             "rates": [{"temperature_k": t, "model": "eyring-tst", "rate_per_s": rate,
                        "log10_rate_interval_68": [lo68, hi68], "log10_rate_interval_95": [lo95, hi95],
-                       "log10_rate_median": math.log10(rate)}],
-            "ladder": [{"recipe": "dft", "rates": [{"temperature_k": t, "model": "eyring-tst", "rate_per_s": rate}]},
+                       "log10_rate_median": math.log10(rate), "validity": ok}],
+            "ladder": [{"recipe": "dft", "rates": [{"temperature_k": t, "model": "eyring-tst", "rate_per_s": rate,
+                                                    "validity": ok}]},
                        {"recipe": "ccsd(t)//dft",
-                        "rates": [{"temperature_k": t, "model": "eyring-tst", "rate_per_s": rate / 30}]}]}
+                        "rates": [{"temperature_k": t, "model": "eyring-tst", "rate_per_s": rate / 30,
+                                   "validity": ok}]}]}
 
 
 def test_compare_pathway_inside_and_outside():

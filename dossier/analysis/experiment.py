@@ -19,13 +19,19 @@ from dossier.science.uncertainty import UncertaintyModel
 from dossier.units import CM1_KJ_MOL
 
 
+def _validity_of(entry: Mapping[str, Any]) -> dict[str, Any]:
+    """{valid, note} of a rate entry (docs/dossier-json.md, `validity`); an entry without one is not valid."""
+    v = entry.get("validity") or {}
+    return {"valid": v.get("valid") is True, "note": v.get("note") or "no applicability verdict"}
+
+
 def _computed_at(rates: Sequence[Mapping[str, Any]], model_name: str, temperature_k: float) -> dict[str, Any] | None:
     """The computed rate entry of one model at a temperature, interpolated in 1/T if bracketed."""
     series = sorted((r for r in rates if r.get("model") == model_name and _positive(r.get("rate_per_s"))),
                     key=lambda r: r["temperature_k"])
     for r in series:
         if abs(r["temperature_k"] - temperature_k) <= SAME_TEMPERATURE_K:
-            return dict(r, interpolated=False)
+            return dict(r, interpolated=False, validity=_validity_of(r))
     below = [r for r in series if r["temperature_k"] < temperature_k]
     above = [r for r in series if r["temperature_k"] > temperature_k]
     if not below or not above:
@@ -37,8 +43,12 @@ def _computed_at(rates: Sequence[Mapping[str, Any]], model_name: str, temperatur
     def lerp(x, y):
         return x + f * (y - x)
 
+    va, vb = _validity_of(a), _validity_of(b)
+    note = va["note"] if va["note"] == vb["note"] else (f"{a['temperature_k']:.2f} K: {va['note']}; "
+                                                        f"{b['temperature_k']:.2f} K: {vb['note']}")
     out: dict[str, Any] = {"model": model_name, "temperature_k": temperature_k, "interpolated": True,
-                           "rate_per_s": 10 ** lerp(math.log10(a["rate_per_s"]), math.log10(b["rate_per_s"]))}
+                           "rate_per_s": 10 ** lerp(math.log10(a["rate_per_s"]), math.log10(b["rate_per_s"])),
+                           "validity": {"valid": va["valid"] and vb["valid"], "note": note}}
     for key in ("log10_rate_interval_68", "log10_rate_interval_95"):
         if a.get(key) and b.get(key):
             out[key] = [lerp(a[key][0], b[key][0]), lerp(a[key][1], b[key][1])]
@@ -61,6 +71,7 @@ def compare_rate(measured: Mapping[str, Any], computed: Mapping[str, Any]) -> di
         "computed_model": computed["model"],
         "computed_rate_per_s": kc,
         "computed_interpolated": bool(computed.get("interpolated", False)),
+        "computed_validity": computed.get("validity") or _validity_of(computed),
         "log10_ratio": log_ratio,
         "barrier_shift_to_match_kj_mol": float(barrier_shift_to_match_kj_mol(kc, ke, t)),
         "inside_68": None,
@@ -149,16 +160,17 @@ def compare_ladder(pathway: Mapping[str, Any], measured: Sequence[Mapping[str, A
                     "barrier_shift_to_match_kj_mol": float(barrier_shift_to_match_kj_mol(comp["rate_per_s"],
                                                                                           m["rate_per_s"],
                                                                                           m["temperature_k"])),
-                    "interpolated": comp["interpolated"],
+                    "interpolated": comp["interpolated"], "validity": comp["validity"],
                 })
-    # for each measurement and rate model: which rung comes closest
+    # for each measurement and rate model: which rung comes closest, among the rungs whose model is valid
     groups: dict[tuple[str, float], list[dict[str, Any]]] = {}
     for r in rows:
-        groups.setdefault((r["model"], r["temperature_k"]), []).append(r)
+        r["closest_to_experiment"] = False
+        if r["validity"]["valid"]:
+            groups.setdefault((r["model"], r["temperature_k"]), []).append(r)
     for (model_name, t), members in groups.items():
         best = min(members, key=lambda r: abs(r["log10_ratio"]))
-        for r in members:
-            r["closest_to_experiment"] = r is best
+        best["closest_to_experiment"] = True
         if len(members) > 1:
             best["statement"] = st.ladder_statement(best["recipe"], model_name, t, best["log10_ratio"], len(members))
     return rows

@@ -6,8 +6,8 @@ from typing import Any
 
 from dossier import units as u
 from dossier.science import localization as loc
-from dossier.science import marcus
-from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _pick, _value_at
+from dossier.science import applicability, marcus
+from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _pick, _rate_ratio, _value_at
 from dossier.analysis.rates import _RateInputs, _arrhenius, _mlj_parameters, _rates
 from dossier.analysis.routes import _chosen_energy_route, _coupling_routes, _double_well, _driving_and_barrier, _lambda_routes, _mode_analysis
 
@@ -170,10 +170,14 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
                     continue
                 params = {"coupling_cm1": hr["value_cm1"], "reorganization_energy_kj_mol": lr["value_kj_mol"],
                           "delta_g0_kj_mol": dg0, "temperature_k": ctx.t_ref}
+                k = marcus.marcus_nonadiabatic_rate_per_s(**params)
+                kappa = _rate_ratio(k, marcus.eyring_rate_per_s(marcus.marcus_barrier_kj_mol(lr["value_kj_mol"], dg0),
+                                                                ctx.t_ref))
                 combos.append({"reorganization_energy_route": lr["route"], "coupling_route": hr["route"],
                                "temperature_k": ctx.t_ref, "model": MODEL_MARCUS,
                                "function": "dossier.science.marcus.marcus_nonadiabatic_rate_per_s", "parameters": params,
-                               "rate_per_s": marcus.marcus_nonadiabatic_rate_per_s(**params)})
+                               "rate_per_s": k, "validity": applicability.golden_rule_verdict(
+                                   hr["value_cm1"], lr["value_kj_mol"], ctx.t_ref, nu_n, kappa)})
     rung["route_combinations"] = combos
     return rung
 

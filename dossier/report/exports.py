@@ -176,7 +176,9 @@ def rate_rows(data: dict) -> list[list[Any]]:
             i68 = r.get("log10_rate_interval_68") or [None, None]
             i95 = r.get("log10_rate_interval_95") or [None, None]
             rows.append([pw["name"], r.get("model"), r.get("temperature_k"), r.get("rate_per_s"), r.get("log10_rate_median"),
-                         i68[0], i68[1], i95[0], i95[1], r.get("barrier_kj_mol"), r.get("transmission_coefficient")])
+                         i68[0], i68[1], i95[0], i95[1], r.get("barrier_kj_mol"), r.get("transmission_coefficient"),
+                         "valid" if (r.get("validity") or {}).get("valid") is True else "not valid",
+                         (r.get("validity") or {}).get("note")])
     return rows
 
 
@@ -185,7 +187,8 @@ CSV_TABLES = {
     "populations.csv": (["family", "recipe", "basis", "temperature_k", "state", "population_fraction"], populations_rows),
     "parameters.csv": (["pathway", "parameter", "route", "value", "unit", "level_of_theory", "formula", "files"], parameter_rows),
     "rates.csv": (["pathway", "model", "temperature_k", "rate_per_s", "log10_rate_median", "log10_rate_68_low",
-                   "log10_rate_68_high", "log10_rate_95_low", "log10_rate_95_high", "barrier_kj_mol", "transmission_coefficient"], rate_rows),
+                   "log10_rate_68_high", "log10_rate_95_low", "log10_rate_95_high", "barrier_kj_mol", "transmission_coefficient",
+                   "validity", "validity_note"], rate_rows),
 }
 
 

@@ -126,6 +126,9 @@ def rate_comparison_statement(entry: Mapping[str, Any]) -> str:
     """One sentence for one computed-vs-measured rate (an experiment.compare_rate result)."""
     t = entry["temperature_k"]
     head = f"At {t:.0f} K ({entry['computed_model']})"
+    validity = entry.get("computed_validity") or {}
+    if validity and not validity.get("valid"):
+        head += f" [model not valid here: {validity.get('note')}]"
     parts = [ratio_statement(entry["log10_ratio"])]
     if entry.get("inside_68") is not None:
         parts.append(interval_statement(bool(entry["inside_68"]), bool(entry["inside_95"])))
