@@ -176,3 +176,18 @@ def test_documented_transfers_example_loads(tmp_path):
     tr = m.transfers[0]
     assert set(tr.four_point) == {"dft", "cc"} and len(tr.couplings) == 4
     assert tr.solvent.name == "dichloromethane" and tr.driving_force == "symmetry"
+
+
+def test_carrier_named_in_localization_sentences():
+    from dossier.reading import read
+    from dossier.science import localization as loc
+    from tests.conftest import fixture_path
+
+    cation = read(str(fixture_path("Gaussian/basicGaussian16/dvb_un_sp.log")), use_cache=False)
+    anion = read(str(demo_path("pathway/min_a_opt.out")))
+    assert cation.charge == 1 and anion.charge == -1  # as the logs print them
+    # cation: hole; anion: electron (issue 13) -- in the proton-shift sentence and the geometric note
+    assert "the hole moves" in loc.proton_shifts([("a", cation), ("b", cation)])["statement"]
+    assert "the electron moves" in loc.proton_shifts([("a", anion), ("b", anion)])["statement"]
+    assert "hole" in loc._geometry_note("internal-bonds", cation.charge)
+    assert "extra electron" in loc._geometry_note("internal-bonds", anion.charge)

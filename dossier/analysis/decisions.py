@@ -70,11 +70,11 @@ def supported_statement(pw: dict) -> dict:
         zp_text = f"the zero-point-corrected barrier is {zpe:.1f} kJ/mol" if zpe is not None else \
             "the model barrier lies below the zero-point level of the transfer mode"
         out["statement"] = (f"{zp_text[0].upper() + zp_text[1:]}: the barrier lies below the zero-point level, so at "
-                            "this level the electron is not trapped on one site on the vibrational time scale; the "
+                            f"this level the {pw.get('carrier') or 'electron'} is not trapped on one site on the vibrational time scale; the "
                             f"transfer time is bounded by the vibrational period, 1/(c nu) = {period:.0f} fs "
                             f"(nu = {nu:.0f} cm-1, {what}).")
     elif ratio is not None and ratio >= applicability.MAX_COUPLING_RATIO:
-        out["statement"] = (f"2H_ab/lambda = {ratio:.2f} >= 1: the electron is shared by both sites (class III), so "
+        out["statement"] = (f"2H_ab/lambda = {ratio:.2f} >= 1: the {pw.get('carrier') or 'electron'} is shared by both sites (class III), so "
                             "there is no site-to-site transfer for a rate constant to describe.")
     else:
         out["statement"] = ("The numbers support no rate constant at this level; the rate tables list every model with "

@@ -7,6 +7,7 @@ from typing import Any
 from dossier import units as u
 from dossier.science import localization as loc
 from dossier.science import applicability, marcus
+from dossier.science.couplings import carrier_from_charge
 from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _pick, _rate_ratio, _value_at
 from dossier.analysis.rates import _RateInputs, _arrhenius, _mlj_parameters, _rates
 from dossier.analysis.routes import _chosen_energy_route, _coupling_routes, _double_well, _driving_and_barrier, _lambda_routes, _mode_analysis
@@ -84,6 +85,7 @@ def _pathway_entry(ctx, pw) -> dict:
 
     entry = {
         "name": pw.name, "reactant": pw.reactant, "transition_state": pw.transition_state, "product": pw.product,
+        "carrier": carrier_from_charge(p.states[pw.reactant].geometry.charge or 0),
         "donor_site": pw.donor_site, "acceptor_site": pw.acceptor_site, "bridge_site": pw.bridge_site,
         "recipe": pw.recipe, "levels": levels,
         "level_labels": {rc: ctx.level_labels.get(rc) for rc in dict.fromkeys(levels.values())},

@@ -258,8 +258,8 @@ def diabatic_figure(pathway: dict, unit: str) -> Figure:
     fig = _figure(5.2, 3.4)
     ax = fig.add_subplot()
     x = curves["x"]
-    ax.plot(x, curves["diabatic_reactant"] * conv, color=_INK[1], linestyle="--", label=_t(f"diabatic, electron on {pathway.get('donor_site') or 'donor'}"))
-    ax.plot(x, curves["diabatic_product"] * conv, color=_INK[1], linestyle=":", label=_t(f"diabatic, electron on {pathway.get('acceptor_site') or 'acceptor'}"))
+    ax.plot(x, curves["diabatic_reactant"] * conv, color=_INK[1], linestyle="--", label=_t(f"diabatic, {pathway.get('carrier') or 'electron'} on {pathway.get('donor_site') or 'donor'}"))
+    ax.plot(x, curves["diabatic_product"] * conv, color=_INK[1], linestyle=":", label=_t(f"diabatic, {pathway.get('carrier') or 'electron'} on {pathway.get('acceptor_site') or 'acceptor'}"))
     if "adiabatic_lower" in curves:
         ax.plot(x, curves["adiabatic_lower"] * conv, color=_INK[0], linestyle="-", label="adiabatic, lower")
         ax.plot(x, curves["adiabatic_upper"] * conv, color=_INK[0], linestyle="-.", linewidth=1.0, label="adiabatic, upper")

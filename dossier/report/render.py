@@ -338,6 +338,13 @@ def sites_in(data: dict) -> list[str]:
     return seen
 
 
+def carrier_word(data: dict) -> str:
+    """'hole', 'electron' (named from the charges by the analysis) or 'charge carrier' when the
+    pathways and transfers of one dossier move both; 'electron' when none says."""
+    found = {x.get("carrier") for x in (data.get("pathways") or []) + (data.get("transfers") or [])} - {None}
+    return found.pop() if len(found) == 1 else ("charge carrier" if found else "electron")
+
+
 def context(data: dict, figures: list[FigureOut]) -> dict:
     project = data.get("project") or {}
     unit = project.get("energy_unit", "kJ/mol")
@@ -358,7 +365,9 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "transfers": bool(data.get("transfers")),
         "states": bool(data.get("states")), "provenance": True, "references": True,
     }
-    sections = [{"file": f, "id": i, "title": t} for f, i, t in SECTIONS if present[i]]
+    carrier = carrier_word(data)
+    sections = [{"file": f, "id": i, "title": t.replace("the electron", f"the {carrier}")}
+                for f, i, t in SECTIONS if present[i]]
     for n, s in enumerate(sections, 1):
         s["number"] = n
     return {
@@ -380,7 +389,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),
         "states_by_name": _state_by_name(data),
         "state_energy": state_energy_hartree,
-        "dossier_version": __version__,
+        "dossier_version": __version__, "carrier_word": carrier,
     }
 
 

@@ -32,6 +32,7 @@ from typing import Any
 import numpy as np
 
 from dossier.science import geometry
+from dossier.science.couplings import carrier_from_charge
 from dossier.records import Calculation
 
 #: Covalent radii (angstrom) for bond detection: B. Cordero et al., Dalton Trans. 2008, 2832, Table 2
@@ -232,6 +233,19 @@ def orbital_shares(calc: Calculation, sites: Mapping[str, Sequence[int]]) -> dic
             "somo_share_by_site": shares, "share_elsewhere": rest}
 
 
+def _geometry_note(indicator: str, charge: int | None) -> str:
+    """The geometric rule in words, naming the carrier from the charge (cation: hole; anion: electron)."""
+    carrier = carrier_from_charge(charge or 0)
+    if indicator != "internal-bonds":
+        return f"the site with the longer bonds to the bridge carries the {carrier or 'unpaired electron'}"
+    if carrier == "hole":
+        return ("the hole empties an orbital bonding inside the site, so the site with the longer internal bonds "
+                "is taken to carry it")
+    if carrier == "electron":
+        return "the extra electron lengthens the bonds inside the site; for nitro groups N-O"
+    return "the unpaired electron is taken to sit on the site with the longer internal bonds"
+
+
 def state_localization(calc: Calculation, sites: Mapping[str, Sequence[int]], redox_sites: Sequence[str],
                        bridge_atoms: Sequence[int] | None = None) -> dict:
     """All indicators for one state and their consensus (the `localization` entry of dossier.json).
@@ -268,10 +282,7 @@ def state_localization(calc: Calculation, sites: Mapping[str, Sequence[int]], re
     if not schemes:
         notes.append("no population analysis in the record")
     if geom is not None:
-        notes.append(f"geometric indicator: {geom['indicator']} "
-                     + ("(extra electron lengthens the bonds inside the site; for nitro groups N-O)"
-                        if geom["indicator"] == "internal-bonds"
-                        else "(the site with the longer bonds to the bridge carries the electron)"))
+        notes.append(f"geometric indicator: {geom['indicator']} ({_geometry_note(geom['indicator'], calc.charge)})")
     votes: list[tuple[str, str]] = []
     for name, entry in sorted(schemes.items()):
         if entry.get("site_of_electron"):
@@ -379,7 +390,8 @@ def proton_shifts(states: Sequence[tuple[str, Calculation]]) -> dict:
                          + ", ".join(f"{k}: {v}" for k, v in m["nearest_heavy_atom"].items()) + ")" for m in moves)
         statement = f"A proton moves along this pathway ({text}): possible proton-coupled electron transfer."
     elif hydrogens:
-        statement = ("At this level the electron moves without a proton: every hydrogen keeps its nearest "
+        carrier = carrier_from_charge(calcs[0].charge or 0) or "electron"
+        statement = (f"At this level the {carrier} moves without a proton: every hydrogen keeps its nearest "
                      f"heavy atom in {', '.join(names)}.")
     else:
         statement = "The structures hold no hydrogen: no proton can move."
