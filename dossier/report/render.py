@@ -1,6 +1,7 @@
 """HTML and PDF of the dossier, from the result dict and the figures only.
 
-Templates live in ``templates/`` (one file per section, a base and a stylesheet) and are
+Templates live in the repository's top-level ``templates/`` folder (one file per section, a
+base and a stylesheet), which is installed as the package ``dossier.templates``, and are
 rendered by a jinja2 ``SandboxedEnvironment`` with autoescaping on, so user text (titles,
 state names, notes) is escaped everywhere and user templates (``--templates DIR``, which
 override the built-in files of the same name) cannot reach Python internals.
@@ -31,7 +32,16 @@ from dossier.errors import BuildError
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
 
-TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
+
+def builtin_templates_dir() -> Path:
+    """The folder of the built-in templates, found from the installed package (a wheel, or the
+    repository's templates/ folder in an editable install) through importlib.resources."""
+    from importlib.resources import files
+
+    return Path(str(files("dossier.templates")))
+
+
+TEMPLATES_DIR = builtin_templates_dir()
 
 #: Section templates in document order: (file, anchor id, title).
 SECTIONS = [
