@@ -6,8 +6,10 @@ geometry; the cation single point has charge +1, so it belongs to no neutral sta
 """
 from __future__ import annotations
 
+import os
 import re
 import shutil
+import stat
 import tomllib
 
 import pytest
@@ -108,3 +110,16 @@ def test_init_on_the_demo_study(tmp_path):
     assert project.label(project.states[pw.transition_state].geometry).endswith(ts_file)
     findings = checks.run_checks(project)
     assert [f.line() for f in findings if f.severity == "error"] == []
+
+
+@pytest.mark.parametrize("umask", [0o022, 0o077])
+def test_init_draft_gets_the_permissions_of_an_ordinary_file(tmp_path, umask):
+    # POSIX: a new file is created with mode 0666 less the process umask (open(2), umask(2));
+    # tempfile.mkstemp alone would leave 0600 whatever the umask
+    folder = _folder(tmp_path)
+    old = os.umask(umask)
+    try:
+        assert main(["init", str(folder), "--jobs", "1"]) == 0
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE((folder / "dossier.toml").stat().st_mode) == 0o666 & ~umask

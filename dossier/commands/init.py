@@ -43,6 +43,13 @@ def _every_job(paths, results, use_cache: bool) -> list[tuple[Path, Calculation 
     return out
 
 
+def _file_mode() -> int:
+    """0666 less the umask: the mode a plain open() would give (mkstemp's own is 0600)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
 def write_atomically(path: Path, text: str) -> None:
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
@@ -52,6 +59,7 @@ def write_atomically(path: Path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as fh:
             fh.write(text)
+        os.chmod(tmp, _file_mode())
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
