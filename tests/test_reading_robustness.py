@@ -262,25 +262,3 @@ def test_read_many_keeps_order_with_errors_and_any_executor(tmp_path):
     pooled = read_many(paths, jobs=2, use_cache=False, progress=lambda d, t: seen.append((d, t)))
     assert [getattr(r, "energy_hartree", None) for r in pooled] == [getattr(r, "energy_hartree", None) for r in res]
     assert seen[-1] == (4, 4)
-
-
-def test_progress_bar_only_on_a_terminal():
-    import io
-
-    from dossier.reading.parallel import TerminalProgress
-
-    class Tty(io.StringIO):
-        def isatty(self):
-            return True
-
-    quiet = io.StringIO()
-    TerminalProgress(quiet, delay_s=0)(1, 2)
-    assert quiet.getvalue() == ""
-    tty = Tty()
-    bar = TerminalProgress(tty, delay_s=0)
-    bar(1, 2)
-    bar(2, 2)
-    assert "2/2" in tty.getvalue() and tty.getvalue().endswith("\n")
-    late = Tty()
-    TerminalProgress(late, delay_s=60)(1, 2)  # fast reads show no bar
-    assert late.getvalue() == ""

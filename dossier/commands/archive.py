@@ -4,6 +4,7 @@ from __future__ import annotations
 import sys
 
 from dossier.archive.write import write_archive
+from dossier.commands._progress import StageProgress
 
 HELP = "pack the outputs, inputs, manifest, built dossier, checksums and environment into one .tar.gz"
 
@@ -26,21 +27,19 @@ def add_arguments(parser) -> None:
     parser.add_argument("--sign", metavar="KEY", default=None,
                         help="sign the archive with this SSH private key (ssh-keygen -Y sign); "
                              "the signature is written beside it as FILE.tar.gz.sig")
-    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    parser.add_argument("--quiet", action="store_true",
+                        help="no progress (default: a bar per stage on a terminal, plain lines otherwise)")
 
 
 def run(args) -> int:
-    def progress(text: str) -> None:
-        if not args.quiet:
-            print(f"archive: {text}", file=sys.stderr, flush=True)
-
     formats = None
     if args.formats:
         formats = tuple(f.strip() for f in args.formats.split(",") if f.strip())
-    result = write_archive(
-        args.manifest, args.out, build_dir=args.build, formats=formats, jobs=args.jobs,
-        progress=progress, sign_key=args.sign,
-    )
+    with StageProgress("archive", quiet=args.quiet) as progress:
+        result = write_archive(
+            args.manifest, args.out, build_dir=args.build, formats=formats, jobs=args.jobs,
+            progress=progress, sign_key=args.sign,
+        )
     for item in result.left_out:  # always shown, even with --quiet: the archive is not the whole project
         print(f"archive: left out {item['path']}: {item['reason']}", file=sys.stderr)
     print(f"wrote {result.path} ({len(result.members)} files); check it with: dossier verify {result.path}")

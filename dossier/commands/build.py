@@ -11,7 +11,8 @@ from __future__ import annotations
 import sys
 
 from dossier.errors import ChecksFailed
-from dossier.report.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats, stderr_progress
+from dossier.commands._progress import StageProgress
+from dossier.report.build import ALL_FORMATS, DEFAULT_OUT_NAME, build_dossier, parse_formats
 
 HELP = "build the supporting-information dossier (HTML, PDF, JSON, CSV, XYZ, LaTeX, BibTeX) from a manifest"
 
@@ -28,7 +29,8 @@ def add_arguments(parser) -> None:
     parser.add_argument("--number-atoms", action="store_true", help="number the atoms in the structure drawings")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
     parser.add_argument("--no-cache", action="store_true", help="re-read every output file instead of using the cache")
-    parser.add_argument("--quiet", action="store_true", help="no progress lines")
+    parser.add_argument("--quiet", action="store_true",
+                        help="no progress (default: a bar per stage on a terminal, plain lines otherwise)")
     parser.add_argument("--draft", action="store_true",
                         help="build even when the checks find errors; every page is marked as a draft")
 
@@ -45,9 +47,10 @@ def _print_errors(errors: list[dict], head: str) -> None:
 def run(args) -> int:
     formats = parse_formats(args.formats)
     try:
-        result = build_dossier(args.manifest, args.out, formats=formats, templates_dir=args.templates, jobs=args.jobs,
-                               use_cache=not args.no_cache, progress=None if args.quiet else stderr_progress,
-                               png=args.png, numbered_atoms=args.number_atoms, draft=args.draft)
+        with StageProgress("build", quiet=args.quiet) as progress:
+            result = build_dossier(args.manifest, args.out, formats=formats, templates_dir=args.templates,
+                                   jobs=args.jobs, use_cache=not args.no_cache, progress=progress,
+                                   png=args.png, numbered_atoms=args.number_atoms, draft=args.draft)
     except ChecksFailed as exc:
         n = len(exc.errors)
         _print_errors(exc.errors, f"build: CHECKS FOUND {n} ERROR{'S' if n != 1 else ''}; nothing was written "
@@ -59,10 +62,11 @@ def run(args) -> int:
         n = len(errors)
         _print_errors(errors, f"build: DRAFT: CHECKS FOUND {n} ERROR{'S' if n != 1 else ''} "
                               "(every page is marked as a draft):")
-    if result.n_warnings:
+    if result.n_warnings and not args.quiet:
         print(f"build: {result.n_warnings} warning{'s' if result.n_warnings != 1 else ''} from the checks", file=sys.stderr)
     n = len(result.files)
-    print(f"build: wrote {n} file{'s' if n != 1 else ''} to {result.out_dir}", file=sys.stderr)
+    if not args.quiet:
+        print(f"build: wrote {n} file{'s' if n != 1 else ''} to {result.out_dir}", file=sys.stderr)
     for name in sorted(result.files):
         print(result.files[name])
     return 0

@@ -64,11 +64,14 @@ def format_findings(findings) -> str:
 
 
 def run(args) -> int:
+    from dossier.commands._progress import StageProgress
     from dossier.project.checks import run_checks
     from dossier.project import load_project
 
     prev = previous_sources(args.against) if args.against else None
-    project = load_project(args.manifest, jobs=args.jobs, use_cache=not args.no_cache)
+    with StageProgress("check", lines=False, delay_s=1.0) as progress:  # a bar on a terminal only
+        progress("reading output files")
+        project = load_project(args.manifest, jobs=args.jobs, use_cache=not args.no_cache, progress=progress.step)
     findings = run_checks(project, previous_sources=prev)
     if args.json:
         json.dump([f.to_dict() for f in findings], sys.stdout, indent=2)

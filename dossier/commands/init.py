@@ -68,6 +68,7 @@ def write_atomically(path: Path, text: str) -> None:
 
 
 def run(args) -> int:
+    from dossier.commands._progress import StageProgress
     from dossier.project.drafting import draft_manifest
     from dossier.reading import find_outputs, read_many
 
@@ -84,7 +85,10 @@ def run(args) -> int:
     # never over an output or an input beside one, a device, a pipe or a folder, even with --force
     inputs = [p for p in paths + [p.with_suffix(s) for p in paths for s in INPUT_SUFFIXES] if os.path.lexists(p)]
     check_file_target(out, inputs, hint="give the manifest's file name")
-    results = _every_job(paths, read_many(paths, jobs=args.jobs, use_cache=not args.no_cache), not args.no_cache)
+    with StageProgress("init", lines=False, delay_s=1.0) as progress:  # a bar on a terminal only
+        progress("reading output files")
+        read = read_many(paths, jobs=args.jobs, use_cache=not args.no_cache, progress=progress.step)
+    results = _every_job(paths, read, not args.no_cache)
     draft = draft_manifest(folder.resolve().name, Path(os.path.abspath(out)).parent, results)
     check_file_target(out, inputs, hint="give the manifest's file name")  # again: the reading took a while
     write_atomically(out, draft.text)

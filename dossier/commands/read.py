@@ -69,20 +69,18 @@ def _table(records) -> str:
 
 
 def run(args) -> int:
+    from dossier.commands._progress import StageProgress
     from dossier.reading import read_many
-    from dossier.reading.parallel import TerminalProgress
 
     notes: list[str] = []
     files = _expand(args.paths, notes)
     for note in notes:
         print(f"dossier: {note}", file=sys.stderr)
-    results = read_many(
-        files,
-        jobs=args.jobs,
-        use_cache=not args.no_cache,
-        cache_dir=args.cache_dir,
-        progress=TerminalProgress(sys.stderr),
-    )
+    # a bar on a terminal once reading takes more than a second; no lines for scripts to skip
+    with StageProgress("read", lines=False, delay_s=1.0) as progress:
+        progress("reading output files")
+        results = read_many(files, jobs=args.jobs, use_cache=not args.no_cache, cache_dir=args.cache_dir,
+                            progress=progress.step)
     records = []
     failed = 0
     for res in results:

@@ -1,10 +1,9 @@
 """`dossier verify ARCHIVE [--rebuild]`: check an archive's checksums; optionally rebuild and compare."""
 from __future__ import annotations
 
-import sys
-
 from dossier.archive.common import CHECKSUMS_NAME
 from dossier.archive.verify import verify_archive
+from dossier.commands._progress import StageProgress
 
 HELP = "check every file of a dossier archive against its checksum list (and optionally rebuild it)"
 
@@ -19,14 +18,14 @@ def add_arguments(parser) -> None:
                         help="also require ARCHIVE.sig to be a valid SSH signature by this public key "
                              "(or by a key of this OpenSSH allowed-signers file)")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers for the rebuild")
+    parser.add_argument("--quiet", action="store_true",
+                        help="no progress of the rebuild (default: a bar per stage on a terminal, plain lines otherwise)")
 
 
 def run(args) -> int:
-    def progress(text: str) -> None:
-        print(f"verify: {text}", file=sys.stderr, flush=True)
-
-    report = verify_archive(args.archive, rebuild=args.rebuild, jobs=args.jobs,
-                            progress=progress if args.rebuild else None, signer=args.signer)
+    with StageProgress("verify", quiet=args.quiet or not args.rebuild) as progress:
+        report = verify_archive(args.archive, rebuild=args.rebuild, jobs=args.jobs, progress=progress,
+                                signer=args.signer)
     for line in report.lines():
         print(line)
     if report.ok:

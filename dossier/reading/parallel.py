@@ -7,8 +7,6 @@ bounded by the files being read, not by the size of the project.
 from __future__ import annotations
 
 import os
-import sys
-import time
 from pathlib import Path
 from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
 
@@ -58,30 +56,6 @@ def default_jobs() -> int:
         return max(1, len(os.sched_getaffinity(0)))
     except AttributeError:  # pragma: no cover - not Linux
         return max(1, os.cpu_count() or 1)
-
-
-class TerminalProgress:
-    """A one-line progress bar on stderr, shown only on a terminal and only after ~1 s."""
-
-    def __init__(self, stream=None, delay_s: float = 1.0):
-        self.stream = stream or sys.stderr
-        self.delay_s = delay_s
-        self.start = time.monotonic()
-        self.shown = False
-        self.enabled = hasattr(self.stream, "isatty") and self.stream.isatty()
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.enabled or total <= 0:
-            return
-        if not self.shown and time.monotonic() - self.start < self.delay_s and done < total:
-            return
-        self.shown = True
-        width = 30
-        filled = int(width * done / total)
-        self.stream.write(f"\rreading {done}/{total} [{'#' * filled}{'.' * (width - filled)}]")
-        if done >= total:
-            self.stream.write("\n")
-        self.stream.flush()
 
 
 def read_many(paths, *, jobs=None, executor: Executor | None = None, use_cache=True, cache_dir=None, progress=None):

@@ -16,7 +16,6 @@ from __future__ import annotations
 import os
 import platform
 import shutil
-import sys
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -196,7 +195,8 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
 
     ``formats``: any of html, pdf, json, csv, xyz, tex, bib. ``templates_dir``: a folder whose
     templates override the built-in ones (rendered sandboxed). ``png``: also write every figure
-    as PNG under ``figures/``. ``progress``: called with one line of text per slow step.
+    as PNG under ``figures/``. ``progress``: called with one line of text per slow step; if it
+    also has ``step(done, total)``, the reading and analysis counts go there (see ``_counter``).
     Raises a DossierError (manifest, read or build error) for bad input; the previous dossier
     in ``out_dir`` is then left untouched. When the checks find errors it raises ChecksFailed and
     writes nothing, unless ``draft``: then it builds, sets ``"draft": true`` (and ``draft_errors``)
@@ -217,22 +217,14 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
 
     t0 = time.perf_counter()
     say("reading output files")
-    last = [-1]
-
-    def read_progress(done: int, total: int) -> None:
-        step = max(1, total // 10)
-        if done == total or done // step != last[0]:
-            last[0] = done // step
-            say(f"reading output files: {done}/{total}")
-
-    project = load_project(manifest_path, jobs=jobs, use_cache=use_cache, progress=read_progress)
+    project = load_project(manifest_path, jobs=jobs, use_cache=use_cache, progress=_counter(progress, "reading output files"))
     timings["read"] = time.perf_counter() - t0
 
     from dossier.analysis.assemble import analyse
 
     t0 = time.perf_counter()
     say("analysing (thermochemistry, localization, rates, uncertainty, checks)")
-    data = complete_data(analyse(project, progress=lambda done, total: say(f"analysing: {done}/{total}")), project)
+    data = complete_data(analyse(project, progress=_counter(progress, "analysing")), project)
     timings["analysis"] = time.perf_counter() - t0
 
     checks = data.get("checks") or []
@@ -270,6 +262,20 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
     return result
 
 
-def stderr_progress(text: str) -> None:
-    """Progress lines for the command line: one line per step, on stderr."""
-    print(f"build: {text}", file=sys.stderr, flush=True)
+def _counter(progress: Progress | None, label: str) -> Callable[[int, int], None] | None:
+    """Counts of a stage for ``progress``: its ``step(done, total)`` if it has one (a progress bar,
+    dossier.commands._progress), else a text line per tenth."""
+    if progress is None:
+        return None
+    step = getattr(progress, "step", None)
+    if callable(step):
+        return step
+    last = [-1]
+
+    def as_text(done: int, total: int) -> None:
+        every = max(1, total // 10)
+        if done == total or done // every != last[0]:
+            last[0] = done // every
+            progress(f"{label}: {done}/{total}")
+
+    return as_text
