@@ -1,6 +1,17 @@
-"""`dossier thermo FILE...`: the dossier's own RRHO / quasi-RRHO thermochemistry of frequency jobs."""
+"""`dossier thermo FILE...`: the dossier's own RRHO / quasi-RRHO thermochemistry of frequency jobs.
+
+The options are the manifest's words (docs/manifest.md): ``--temperatures-k``,
+``--standard-state``, ``--qrrho``, ``--frequency-scale``, ``--energy-unit`` as under
+[project], ``--symmetry-number`` and ``--geometry`` as under [states.NAME], with the
+manifest's defaults, so that the command shows what a build would compute for the file.
+The output is one card per file (dossier/commands/_thermo_card.py): what was assumed, the
+result at each temperature, the program's own printed numbers beside ours at the program's
+temperature and pressure, and on request the parts per kind of motion. ``--json`` gives the
+same cards as data, energies in hartree per molecule.
+"""
 from __future__ import annotations
 
+import argparse
 import dataclasses
 import json
 import math
@@ -11,12 +22,16 @@ from dossier import units
 from dossier.commands._json import json_safe
 from dossier.errors import DossierError
 
-HELP = "compute ideal-gas thermochemistry (RRHO or quasi-RRHO) from frequency jobs, the same way for every program"
+HELP = "thermochemistry (RRHO or quasi-RRHO) of frequency jobs, the dossier's way for every program: one card per file"
+
+#: The manifest's [project] defaults (dossier/project.py Settings), repeated here for the help text.
+DEFAULT_TEMPERATURES_K = (298.15,)
+DEFAULT_STANDARD_STATE = "1M"
+DEFAULT_QRRHO = "grimme"
+DEFAULT_ENERGY_UNIT = "kJ/mol"
 
 
 def _positive_float(text: str) -> float:
-    import argparse
-
     try:
         value = float(text)
     except ValueError:
@@ -27,8 +42,6 @@ def _positive_float(text: str) -> float:
 
 
 def _positive_int(text: str) -> int:
-    import argparse
-
     try:
         value = int(text)
     except ValueError:
@@ -38,165 +51,187 @@ def _positive_int(text: str) -> int:
     return value
 
 
+def _temperatures(text: str) -> list[float]:
+    """"273.15,298.15" -> [273.15, 298.15]: a list, as the manifest's temperatures_k."""
+    values = [_positive_float(t.strip()) for t in text.split(",") if t.strip()]
+    if not values:
+        raise argparse.ArgumentTypeError("give at least one temperature in kelvin, e.g. 298.15")
+    return list(dict.fromkeys(values))
+
+
 def add_arguments(parser) -> None:
+    from dossier.project.model import ENERGY_UNITS
     from dossier.science.thermo import QRRHO_METHODS, STANDARD_STATES
 
-    parser.add_argument("files", nargs="+", metavar="FILE", help="frequency-job output file")
-    parser.add_argument("--temperature", type=_positive_float, action="append", metavar="K",
-                        help="temperature in K (repeat for several; default 298.15)")
-    parser.add_argument("--pressure", type=_positive_float, default=None, metavar="PA",
-                        help="pressure in Pa for the translational entropy (overrides --standard-state)")
-    parser.add_argument("--standard-state", choices=STANDARD_STATES, default="1atm",
-                        help="1atm (default, as most programs print), 1bar, or 1M (1 mol/L, for solution)")
-    parser.add_argument("--qrrho", choices=QRRHO_METHODS, default="none",
-                        help="low-mode treatment: none (harmonic), grimme (2012 entropy interpolation), "
-                             "truhlar (modes below 100 cm-1 raised to 100 cm-1)")
-    parser.add_argument("--symmetry-number", type=_positive_int, default=None, metavar="N",
-                        help="rotational symmetry number (default: found from the geometry)")
-    parser.add_argument("--scale", type=_positive_float, default=1.0, metavar="F",
-                        help="frequency scale factor applied to every wavenumber (default 1.0)")
-    parser.add_argument("--qrrho-cutoff", type=_positive_float, default=None, metavar="CM1",
-                        help="grimme: rotor/oscillator switch frequency (default 100 cm-1); "
-                             "truhlar: the value low modes are raised to (default 100 cm-1)")
-    parser.add_argument("--masses", choices=("isotopic", "average"), default="isotopic",
-                        help="most abundant isotope (default, as Gaussian/Q-Chem/NWChem/Psi4) or standard atomic weights (as ORCA)")
-    parser.add_argument("--multiplicity", type=_positive_int, default=None, metavar="M",
-                        help="spin multiplicity for files that do not state it")
-    parser.add_argument("--geometry", default=None, metavar="FILE",
-                        help="take the geometry from this output (for a Hessian log without coordinates); one FILE only")
-    parser.add_argument("--contributions", action="store_true",
-                        help="also print translational/rotational/vibrational/electronic contributions")
-    parser.add_argument("--json", action="store_true", help="print one JSON list (one entry per file and temperature)")
-    parser.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
+    parser.add_argument("files", nargs="+", metavar="FILE", help="output of a frequency job")
+    group = parser.add_argument_group("settings, named as in the manifest (docs/manifest.md), same defaults")
+    group.add_argument("--temperatures-k", type=_temperatures, default=list(DEFAULT_TEMPERATURES_K), metavar="LIST",
+                       help="comma-separated temperatures in K (default 298.15)")
+    group.add_argument("--standard-state", choices=STANDARD_STATES, default=DEFAULT_STANDARD_STATE,
+                       help="1M (1 mol/L, default), 1bar or 1atm")
+    group.add_argument("--qrrho", choices=QRRHO_METHODS, default=DEFAULT_QRRHO,
+                       help="low-mode treatment: grimme (default; Grimme 2012 entropy), truhlar (low modes "
+                            "raised, Ribeiro et al. 2011) or none (harmonic)")
+    group.add_argument("--frequency-scale", type=_positive_float, default=1.0, metavar="F",
+                       help="factor applied to every wavenumber (default 1.0)")
+    group.add_argument("--energy-unit", choices=ENERGY_UNITS, default=DEFAULT_ENERGY_UNIT,
+                       help="unit of the card's energies (default kJ/mol; --json always gives hartree)")
+    group.add_argument("--symmetry-number", type=_positive_int, default=None, metavar="N",
+                       help="rotational symmetry number (default: found from the geometry)")
+    group.add_argument("--geometry", default=None, metavar="FILE",
+                       help="take the coordinates from this output (a Hessian job that prints none); one FILE only")
+    more = parser.add_argument_group("further settings (not in the manifest)")
+    more.add_argument("--pressure-pa", type=_positive_float, default=None, metavar="PA",
+                      help="pressure for the translational entropy, in Pa (replaces --standard-state)")
+    more.add_argument("--qrrho-cutoff-cm1", type=_positive_float, default=None, metavar="CM1",
+                      help="grimme: the rotor/oscillator switch wavenumber; truhlar: the wavenumber low modes "
+                           "are raised to (both 100 cm-1 by default)")
+    more.add_argument("--masses", choices=("isotopic", "average"), default="isotopic",
+                      help="most abundant isotope (default) or standard atomic weights")
+    more.add_argument("--multiplicity", type=_positive_int, default=None, metavar="M",
+                      help="spin multiplicity, for files that do not state it")
+    out = parser.add_argument_group("output")
+    out.add_argument("--contributions", action="store_true",
+                     help="add the parts of H, -TS, S and Cv from translation, rotation, vibration and spin")
+    out.add_argument("--json", action="store_true", help="the cards as one JSON list (energies in hartree)")
+    out.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
 
 
-def _entry(calc, result) -> dict:
-    e_el = calc.energy_hartree
-    d = {
-        "path": calc.source.path,
-        "program": calc.program,
+def _settings(args) -> dict:
+    """Keyword arguments of dossier.thermo.rrho from the options."""
+    kw = dict(pressure_pa=args.pressure_pa, standard_state=args.standard_state, qrrho=args.qrrho,
+              symmetry_number=args.symmetry_number, frequency_scale=args.frequency_scale, masses=args.masses)
+    if args.qrrho_cutoff_cm1 is not None and args.qrrho != "none":
+        kw["grimme_w0_cm1" if args.qrrho == "grimme" else "truhlar_raise_cm1"] = args.qrrho_cutoff_cm1
+    if args.multiplicity is not None:
+        kw["multiplicity"] = args.multiplicity
+    return kw
+
+
+def _cutoff_cm1(args) -> float | None:
+    from dossier.science.thermo import GRIMME_W0_CM1, TRUHLAR_RAISE_CM1
+
+    if args.qrrho == "none":
+        return None
+    if args.qrrho_cutoff_cm1 is not None:
+        return args.qrrho_cutoff_cm1
+    return GRIMME_W0_CM1 if args.qrrho == "grimme" else TRUHLAR_RAISE_CM1
+
+
+def _result_entry(result, e_el: float | None) -> dict:
+    return {
         "temperature_k": result.temperature_k,
         "pressure_pa": result.pressure_pa,
-        "standard_state": result.standard_state,
-        "qrrho": result.qrrho,
-        "frequency_scale": result.frequency_scale,
-        "masses": result.masses,
-        "symmetry_number": result.symmetry_number,
-        "symmetry_number_source": result.symmetry_number_source,
-        "point_group": result.point_group,
-        "multiplicity": result.multiplicity,
-        "n_imaginary": result.n_imaginary,
-        "imaginary_cm1": result.imaginary_cm1,
         "zpe_hartree": result.zpe_hartree,
         "thermal_energy_correction_hartree": result.thermal_energy_correction_hartree,
         "enthalpy_correction_hartree": result.enthalpy_correction_hartree,
         "gibbs_correction_hartree": result.gibbs_correction_hartree,
         "entropy_j_mol_k": result.entropy_j_mol_k,
         "heat_capacity_cv_j_mol_k": result.heat_capacity_cv_j_mol_k,
-        "electronic_energy_hartree": e_el,
         "enthalpy_hartree": None if e_el is None else e_el + result.enthalpy_correction_hartree,
         "gibbs_hartree": None if e_el is None else e_el + result.gibbs_correction_hartree,
         "contributions": result.to_dict()["contributions"],
-        "notes": list(result.notes),
-        # what the program itself printed, as the reading layer normalized it (for comparison)
-        "printed_thermo": dataclasses.asdict(calc.printed_thermo) if calc.printed_thermo else None,
-        "printed": _printed(calc, result),
     }
-    return d
 
 
-def _printed(calc, result) -> dict | None:
-    """The program's printed corrections in the same form as ours, and ours minus theirs in
-    kJ/mol, when the program printed them at this temperature. Its settings (masses, pressure,
-    symmetry number, low-mode treatment, constants) may differ: see docs/thermo.md."""
+def _printed(calc, kw: dict, ours_at) -> dict | None:
+    """The program's printed numbers in our form, ours at the program's temperature and pressure
+    with the same assumptions otherwise, and ours minus the program's (kJ/mol; S in J/(mol K))."""
     pt = calc.printed_thermo
-    if pt is None:
+    if pt is None or pt.temperature_k is None or not pt.temperature_k > 0:
         return None
-    same_t = pt.temperature_k is not None and abs(pt.temperature_k - result.temperature_k) < 0.01
     e = calc.energy_hartree
-    out = {
-        "temperature_k": pt.temperature_k,
-        "pressure_pa": pt.pressure_pa,
+    theirs = {
         "zpe_hartree": pt.zpe_hartree,
-        "enthalpy_correction_hartree": None if (pt.enthalpy_hartree is None or e is None) else pt.enthalpy_hartree - e,
-        "gibbs_correction_hartree": None if (pt.gibbs_hartree is None or e is None) else pt.gibbs_hartree - e,
+        "enthalpy_correction_hartree": None if pt.enthalpy_hartree is None or e is None else pt.enthalpy_hartree - e,
+        "gibbs_correction_hartree": None if pt.gibbs_hartree is None or e is None else pt.gibbs_hartree - e,
         "entropy_j_mol_k": None if pt.entropy_hartree_per_k is None
         else pt.entropy_hartree_per_k * units.HARTREE_KJ_MOL * 1000.0,
-        "same_temperature": same_t,
     }
-    kj = units.HARTREE_KJ_MOL
+    same_p = dict(kw, pressure_pa=pt.pressure_pa) if pt.pressure_pa else dict(kw)
+    ours = ours_at(pt.temperature_k, same_p)
+    ours_d = {"zpe_hartree": ours.zpe_hartree, "enthalpy_correction_hartree": ours.enthalpy_correction_hartree,
+              "gibbs_correction_hartree": ours.gibbs_correction_hartree, "entropy_j_mol_k": ours.entropy_j_mol_k}
     diff = {}
-    for key in ("zpe_hartree", "enthalpy_correction_hartree", "gibbs_correction_hartree"):
-        theirs = out[key]
-        ok = theirs is not None and (same_t or key == "zpe_hartree")
-        diff[key.replace("_hartree", "_kj_mol")] = (getattr(result, key) - theirs) * kj if ok else None
-    out["ours_minus_printed"] = diff
-    return out
+    for key, value in theirs.items():
+        scale, name = (1.0, key) if key == "entropy_j_mol_k" else (units.HARTREE_KJ_MOL, key.replace("_hartree", "_kj_mol"))
+        diff[name] = None if value is None else (ours_d[key] - value) * scale
+    return {"temperature_k": pt.temperature_k, "pressure_pa": pt.pressure_pa,
+            "pressure_pa_used": ours.pressure_pa, "program": theirs, "ours": ours_d, "ours_minus_program": diff}
 
 
-def _table(entries) -> str:
-    head = ("file", "T/K", "state", "qRRHO", "sigma", "imag", "ZPE/Eh", "H-E/Eh", "G-E/Eh", "S/J mol-1 K-1",
-            "printed G-E/Eh")
-    rows = []
-    for e in entries:
-        printed = (e["printed"] or {}).get("gibbs_correction_hartree") if (e["printed"] or {}).get("same_temperature") else None
-        rows.append((
-            e["path"], f"{e['temperature_k']:.2f}", e["standard_state"], e["qrrho"],
-            f"{e['symmetry_number']}" + (f" ({e['point_group']})" if e["point_group"] else ""),
-            str(e["n_imaginary"]), f"{e['zpe_hartree']:.6f}", f"{e['enthalpy_correction_hartree']:.6f}",
-            f"{e['gibbs_correction_hartree']:.6f}", f"{e['entropy_j_mol_k']:.3f}",
-            "" if printed is None else f"{printed:.6f}",
-        ))
-    widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(head)]
-    lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths)).rstrip()]
-    lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
-    return "\n".join(lines)
+def card(calc, args, geometry_file: str | None = None) -> dict:
+    """One file's card as data (what `--json` prints and the text card shows)."""
+    from dossier.science.thermo import thermo_from_record
+
+    kw = _settings(args)
+
+    def ours_at(t, settings=kw):
+        return thermo_from_record(calc, t, **settings)
+
+    results = [ours_at(t) for t in args.temperatures_k]
+    first = results[0]
+    e_el = calc.energy_hartree
+    return {
+        "file": calc.source.path,
+        "program": calc.program,
+        "program_version": calc.program_version,
+        "formula": calc.formula if calc.elements else None,
+        "multiplicity": first.multiplicity,
+        "n_modes": len(first.wavenumbers_used_cm1) + first.n_imaginary,
+        "n_imaginary": first.n_imaginary,
+        "imaginary_cm1": first.imaginary_cm1,
+        "geometry_file": geometry_file,
+        "assumed": {
+            "standard_state": None if args.pressure_pa else args.standard_state,
+            "pressure_pa": args.pressure_pa,
+            "qrrho": args.qrrho,
+            "qrrho_cutoff_cm1": _cutoff_cm1(args),
+            "frequency_scale": args.frequency_scale,
+            "symmetry_number": first.symmetry_number,
+            "symmetry_number_source": first.symmetry_number_source,
+            "point_group": first.point_group,
+            "masses": first.masses,
+            "mass_amu": first.mass_amu,
+            "linear": bool(first.linear),
+        },
+        "electronic_energy_hartree": e_el,
+        "results": [_result_entry(r, e_el) for r in results],
+        "printed": _printed(calc, kw, ours_at),
+        "notes": list(first.notes),
+    }
+
+
+def _read_with_geometry(name: str, geometry, args):
+    from dossier.reading import read
+
+    calc = read(Path(name), use_cache=not args.no_cache)
+    if geometry is None:
+        return calc
+    if calc.elements and geometry.elements != calc.elements:
+        raise DossierError(f"atoms differ from those of {args.geometry}", where=name)
+    return dataclasses.replace(calc, coordinates_angstrom=geometry.coordinates_angstrom, elements=geometry.elements)
 
 
 def run(args) -> int:
+    from dossier.commands._thermo_card import format_card
     from dossier.reading import read
-    from dossier.science.thermo import thermo_from_record
 
-    temperatures = args.temperature or [298.15]
     if args.geometry and len(args.files) != 1:
         raise DossierError("--geometry takes the coordinates for one FILE; give exactly one", where="dossier thermo")
     geometry = read(Path(args.geometry), use_cache=not args.no_cache) if args.geometry else None
-    entries, results, failed = [], [], 0
+    cards, failed = [], 0
     for name in args.files:
         try:
-            calc = read(Path(name), use_cache=not args.no_cache)
-            if geometry is not None:
-                if geometry.elements != calc.elements and calc.elements:
-                    raise DossierError(f"atoms differ from those of {args.geometry}", where=name)
-                calc = dataclasses.replace(calc, coordinates_angstrom=geometry.coordinates_angstrom,
-                                           elements=geometry.elements)
-            for t in temperatures:
-                kw = dict(pressure_pa=args.pressure, standard_state=args.standard_state, qrrho=args.qrrho,
-                          symmetry_number=args.symmetry_number, frequency_scale=args.scale, masses=args.masses)
-                if args.qrrho_cutoff is not None:
-                    kw["grimme_w0_cm1" if args.qrrho == "grimme" else "truhlar_raise_cm1"] = args.qrrho_cutoff
-                if args.multiplicity is not None:
-                    kw["multiplicity"] = args.multiplicity
-                result = thermo_from_record(calc, t, **kw)
-                entries.append(_entry(calc, result))
-                results.append(result)
+            cards.append(card(_read_with_geometry(name, geometry, args), args, args.geometry))
         except DossierError as exc:
             if getattr(args, "debug", False):
                 raise
             failed += 1
             print(f"dossier: {exc}", file=sys.stderr)
     if args.json:
-        json.dump(json_safe(entries), sys.stdout, indent=1)
+        json.dump(json_safe(cards), sys.stdout, indent=1)
         sys.stdout.write("\n")
-    elif entries:
-        print(_table(entries))
-        if args.contributions:
-            for e, r in zip(entries, results):
-                print(f"\n{e['path']}")
-                print(r.contributions_table())
-                for note in r.notes:
-                    print(f"note: {note}")
-        kj = units.HARTREE_KJ_MOL
-        print(f"\nEnergies per molecule; 1 Eh = {kj:.4f} kJ/mol. H-E and G-E include the ZPE. "
-              "Printed values are the program's own, for comparison (its settings may differ).")
+    else:
+        print("\n\n".join(format_card(c, unit=args.energy_unit, contributions=args.contributions) for c in cards))
     return 2 if failed else 0

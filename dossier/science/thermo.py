@@ -246,37 +246,6 @@ class ThermoResult:
             d.pop("modes")
         return d
 
-    def contributions_table(self) -> str:
-        """A table a person can read: E, H, S, Cv and -TS per kind of motion, kJ/mol and J/(mol K)."""
-        kj = units.HARTREE_KJ_MOL
-        head = f"{'':14s}{'E(T) kJ/mol':>13s}{'H(T) kJ/mol':>13s}{'S J/(mol K)':>13s}{'Cv J/(mol K)':>14s}{'-TS kJ/mol':>12s}"
-        lines = [
-            f"T = {self.temperature_k:.2f} K, p = {self.pressure_pa:.6g} Pa ({self.standard_state}), "
-            f"symmetry number {self.symmetry_number} ({self.point_group or 'given'}), qRRHO: {self.qrrho}",
-            head,
-            "-" * len(head),
-        ]
-        total = Contribution(0.0, 0.0, 0.0, 0.0, 0.0)
-        for name, c in self.contributions.items():
-            lines.append(
-                f"{name:14s}{c.energy_hartree * kj:13.3f}{c.enthalpy_hartree * kj:13.3f}"
-                f"{c.entropy_j_mol_k:13.3f}{c.heat_capacity_j_mol_k:14.3f}{c.minus_ts_hartree * kj + 0.0:12.3f}"
-            )
-            total = Contribution(
-                total.energy_hartree + c.energy_hartree,
-                total.enthalpy_hartree + c.enthalpy_hartree,
-                total.entropy_j_mol_k + c.entropy_j_mol_k,
-                total.heat_capacity_j_mol_k + c.heat_capacity_j_mol_k,
-                total.minus_ts_hartree + c.minus_ts_hartree,
-            )
-        lines.append("-" * len(head))
-        lines.append(
-            f"{'total':14s}{total.energy_hartree * kj:13.3f}{total.enthalpy_hartree * kj:13.3f}"
-            f"{total.entropy_j_mol_k:13.3f}{total.heat_capacity_j_mol_k:14.3f}{total.minus_ts_hartree * kj:12.3f}"
-        )
-        lines.append(f"ZPE {self.zpe_hartree * kj:.3f} kJ/mol (included in the vibrational E and H)")
-        return "\n".join(lines)
-
 
 def _check_settings(qrrho: str, temperature_k: float, frequency_scale: float, multiplicity) -> None:
     if qrrho not in QRRHO_METHODS:
