@@ -13,6 +13,7 @@ PACKAGE = Path(dossier.__file__).resolve().parent
 #: The shared vocabulary is rank 0; science is pure and depends on nothing else, so it comes first.
 RANK = {
     "units": 0, "errors": 0, "records": 0,
+    "schema": 0,  # the JSON Schema of dossier.json (a data file and its loader)
     "__init__": 7,  # the package's own front door (dossier.read) may reach any stage
     "science": 1, "reading": 2, "project": 3, "analysis": 4, "report": 5, "archive": 6,
     "commands": 7, "cli": 7, "__main__": 7,

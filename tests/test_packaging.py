@@ -65,7 +65,7 @@ def test_license_and_citation_files():
 
 
 def test_templates_are_found_through_the_package():
-    from dossier import render
+    from dossier.report import render
 
     assert render.TEMPLATES_DIR == render.builtin_templates_dir()
     assert (render.TEMPLATES_DIR / "base.html").is_file()
@@ -126,7 +126,7 @@ def test_wheel_installs_into_a_fresh_environment_and_builds_the_demo(tmp_path):
     env["DOSSIER_CACHE_DIR"] = str(tmp_path / "cache")
     run_dir = tmp_path / "elsewhere"  # not the source tree, so nothing is imported from it
     run_dir.mkdir()
-    where = _run([str(python), "-c", "import dossier, dossier.render as r; print(dossier.__file__); "
+    where = _run([str(python), "-c", "import dossier, dossier.report.render as r; print(dossier.__file__); "
                                      "print(r.TEMPLATES_DIR)"], env=env, cwd=run_dir).stdout.split()
     assert all(Path(p).is_relative_to(venv) for p in where), where
 

@@ -27,7 +27,7 @@ def validator():
 @pytest.fixture(scope="module")
 def demo_json(tmp_path_factory):
     """The demo study's dossier.json as `dossier build` writes it (JSON only)."""
-    from dossier import build
+    from dossier.report import build
 
     manifest = DEMO / "dossier.toml"
     if not manifest.exists():

@@ -24,13 +24,6 @@ from dossier.errors import DossierError
 
 HELP = "thermochemistry (RRHO or quasi-RRHO) of frequency jobs, the dossier's way for every program: one card per file"
 
-#: The manifest's [project] defaults (dossier/project.py Settings), repeated here for the help text.
-DEFAULT_TEMPERATURES_K = (298.15,)
-DEFAULT_STANDARD_STATE = "1M"
-DEFAULT_QRRHO = "grimme"
-DEFAULT_ENERGY_UNIT = "kJ/mol"
-
-
 def _positive_float(text: str) -> float:
     try:
         value = float(text)
@@ -60,21 +53,22 @@ def _temperatures(text: str) -> list[float]:
 
 
 def add_arguments(parser) -> None:
-    from dossier.project.model import ENERGY_UNITS
+    from dossier.project.model import ENERGY_UNITS, Settings
     from dossier.science.thermo import QRRHO_METHODS, STANDARD_STATES
 
+    defaults = Settings()  # the manifest's [project] defaults
     parser.add_argument("files", nargs="+", metavar="FILE", help="output of a frequency job")
     group = parser.add_argument_group("settings, named as in the manifest (docs/manifest.md), same defaults")
-    group.add_argument("--temperatures-k", type=_temperatures, default=list(DEFAULT_TEMPERATURES_K), metavar="LIST",
+    group.add_argument("--temperatures-k", type=_temperatures, default=list(defaults.temperatures_k), metavar="LIST",
                        help="comma-separated temperatures in K (default 298.15)")
-    group.add_argument("--standard-state", choices=STANDARD_STATES, default=DEFAULT_STANDARD_STATE,
+    group.add_argument("--standard-state", choices=STANDARD_STATES, default=defaults.standard_state,
                        help="1M (1 mol/L, default), 1bar or 1atm")
-    group.add_argument("--qrrho", choices=QRRHO_METHODS, default=DEFAULT_QRRHO,
+    group.add_argument("--qrrho", choices=QRRHO_METHODS, default=defaults.qrrho,
                        help="low-mode treatment: grimme (default; Grimme 2012 entropy), truhlar (low modes "
                             "raised, Ribeiro et al. 2011) or none (harmonic)")
-    group.add_argument("--frequency-scale", type=_positive_float, default=1.0, metavar="F",
+    group.add_argument("--frequency-scale", type=_positive_float, default=defaults.frequency_scale, metavar="F",
                        help="factor applied to every wavenumber (default 1.0)")
-    group.add_argument("--energy-unit", choices=ENERGY_UNITS, default=DEFAULT_ENERGY_UNIT,
+    group.add_argument("--energy-unit", choices=ENERGY_UNITS, default=defaults.energy_unit,
                        help="unit of the card's energies (default kJ/mol; --json always gives hartree)")
     group.add_argument("--symmetry-number", type=_positive_int, default=None, metavar="N",
                        help="rotational symmetry number (default: found from the geometry)")

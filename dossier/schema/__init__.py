@@ -3,8 +3,8 @@
 ``dossier.schema.json`` (JSON Schema draft 2020-12) fixes the stable core of the format
 described in docs/dossier-json.md: the keys a script may rely on, their types and the units
 in their names. Objects may carry further keys. A change that removes, renames or retypes a
-key of the schema raises ``schema_version`` (the schema's ``const`` and the analysis's
-``SCHEMA_VERSION`` together).
+key of the schema raises ``schema_version`` (the schema's ``const`` and ``SCHEMA_VERSION`` in
+dossier/analysis/common.py together).
 
     from dossier.schema import load_schema
     jsonschema.validate(json.load(open("dossier.json")), load_schema())
