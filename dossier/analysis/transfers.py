@@ -15,12 +15,11 @@ Choices made here, and stated in the result:
 """
 from __future__ import annotations
 
-from dossier.analysis.common import _kj, _prov
 from dossier import units as u
+from dossier.analysis.common import _kj, _prov
 from dossier.errors import DossierError
+from dossier.science import applicability, exchange, fragments, marcus, solvent
 from dossier.science import couplings as cp
-from dossier.science import exchange, fragments, solvent
-from dossier.science import marcus
 
 #: Rank of an energy level for choosing the quoted rung (common practice, no source).
 _LEVEL_RANK = {"mp2": 2, "scs-mp2": 2, "mp3": 3, "mp4(dq)": 3, "mp4(sdq)": 4, "mp4": 4, "ccd": 5, "ccsd": 5,
@@ -54,7 +53,7 @@ def _common_levels(recs: list) -> list[tuple[str, str, int]]:
         labels = {rung_label(r, key) for r in recs}
         if len(labels) == 1:
             out.append((key, labels.pop(), _rank(first, key)))
-    return out
+    return sorted(out, key=lambda x: x[2])  # lowest rung first
 
 
 def _set_ok(recs: dict) -> str | None:
@@ -269,20 +268,20 @@ def _rates(tr, points: list[dict], lam: dict | None, dg: dict | None, sol: dict 
         r = p.get("separation_angstrom")
         lam_out = out_by_r.get(r, {}).get("value_kj_mol") if r is not None else None
         lam_total = lam["value_kj_mol"] + (lam_out or 0.0)
-        cls = marcus.robin_day_class(p["value_cm1"], lam_total, None)
-        ratio = cls["ratio_2hab_over_lambda"]
-        holds = ratio is not None and ratio < 1.0
+        rate = marcus.marcus_nonadiabatic_rate_per_s(p["value_cm1"], lam_total, dg["value_kj_mol"], t)
+        tst = marcus.eyring_rate_per_s(marcus.marcus_barrier_kj_mol(lam_total, dg["value_kj_mol"]), t)
+        kappa = rate / tst if tst > 0 else None
+        v = applicability.golden_rule_verdict(p["value_cm1"], lam_total, t, None, kappa)
+        ratio = next(c["value"] for c in v["criteria"] if c["criterion"] != "nonadiabatic_passage")
+        where = (f"the {tr.carrier or 'charge'} is shared by both molecules (Robin-Day class III): no hopping rate "
+                 "applies; " if ratio is not None and ratio >= applicability.MAX_COUPLING_RATIO else "")
         rows.append({
-            "route": p["route"], "separation_angstrom": r, "coupling_cm1": p["value_cm1"],
-            "reorganization_inner_kj_mol": lam["value_kj_mol"], "reorganization_outer_kj_mol": lam_out,
-            "reorganization_total_kj_mol": lam_total, "delta_e0_kj_mol": dg["value_kj_mol"], "temperature_k": t,
-            "rate_per_s": marcus.marcus_nonadiabatic_rate_per_s(p["value_cm1"], lam_total, dg["value_kj_mol"], t),
-            "ratio_2hab_over_lambda": ratio, "holds": holds,
-            "verdict": (f"2H_ab/lambda = {ratio:.2g} < 1: the {tr.carrier or 'charge'} is localized on one molecule "
-                        "(Robin-Day class II), where the golden-rule rate applies if H_ab is also small against k_BT"
-                        if holds else
-                        f"2H_ab/lambda = {ratio:.2g} >= 1: the {tr.carrier or 'charge'} is shared by both molecules "
-                        "(Robin-Day class III); no hopping rate applies, the number is shown only for comparison"),
+            "route": p["route"], "level_of_theory": p["provenance"]["level_of_theory"], "separation_angstrom": r,
+            "coupling_cm1": p["value_cm1"], "reorganization_inner_kj_mol": lam["value_kj_mol"],
+            "reorganization_outer_kj_mol": lam_out, "reorganization_total_kj_mol": lam_total,
+            "delta_e0_kj_mol": dg["value_kj_mol"], "temperature_k": t, "rate_per_s": rate,
+            "ratio_2hab_over_lambda": ratio, "effective_kappa": kappa, "holds": v["valid"], "validity": v,
+            "verdict": where + v["note"],
         })
     return rows
 
