@@ -416,9 +416,10 @@ def _family_lines(families, pathways, recipe_of_level: dict[str, dict]) -> list[
     return lines
 
 
-def _four_point_candidates(drafts, unused, records, rel):
+def _four_point_candidates(drafts, unused, records, rel, drafted=frozenset()):
     """Commented [pathways.four_point] blocks for pairs of optimised states A, B (same atoms,
-    other charge or multiplicity) with single points of A at B's geometry and of B at A's."""
+    other charge or multiplicity) with single points of A at B's geometry and of B at A's; pairs
+    already drafted as a transfer's four-point set (`drafted`, geometry paths) are left out."""
     singles = [(p, records[p]) for p, _ in unused if p in records and records[p].vibrations is None]
     lines: list[str] = []
     explained: set = set()
@@ -437,6 +438,8 @@ def _four_point_candidates(drafts, unused, records, rel):
             ga, gb = a.geom_rec, b.geom_rec
             if not geometry.same_atom_order(ga.elements, gb.elements) \
                     or (ga.charge, ga.multiplicity) == (gb.charge, gb.multiplicity):
+                continue
+            if (a.geometry, b.geometry) in drafted or (b.geometry, a.geometry) in drafted:
                 continue
             a_at_b, b_at_a = vertical(a, b), vertical(b, a)
             if a_at_b is None or b_at_a is None:
@@ -469,14 +472,20 @@ def draft_manifest(title: str, base: Path, records: list[tuple[Path, Calculation
     families, pathways = _profiles(drafts, group_of)
     recipe_of_level = _recipes_by_level(families, pathways)
 
+    from dossier.project.drafting_transfers import transfer_drafts
+
+    transfers = transfer_drafts(usable, drafts, rel)
     lines = _project_lines(title, threshold_cm1)
+    at = lines.index("[sites]") + 1
+    lines[at:at] = transfers.site_lines
     lines += _state_lines(drafts, rel)
     lines += _recipe_lines(recipe_of_level)
     lines += _pathway_lines(pathways, recipe_of_level)
     lines += _family_lines(families, pathways, recipe_of_level)
-    fp_lines, explained = _four_point_candidates(drafts, unused, dict(usable), rel)
+    lines += transfers.lines
+    fp_lines, explained = _four_point_candidates(drafts, unused, dict(usable), rel, transfers.pairs)
     lines += fp_lines
-    unused = [(p, why) for p, why in unused if p not in explained]
+    unused = [(p, why) for p, why in unused if p not in explained and p not in transfers.explained]
     if unused:
         lines.append("# Files not placed in any state (assign them by hand if they belong):")
         for p, why in unused:

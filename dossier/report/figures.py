@@ -561,7 +561,7 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
             who = (tr.get("carrier") or "charge").capitalize()
             add(scan_figure(tr), f"transfer-{n}", "transfers", f"{who} coupling against separation ({tr['name']})",
                 "Coupling H_ab by route (markers) with the exponential fit (lines); right: golden-rule rate with "
-                "lambda = lambda_in + lambda_out (crosses: 2H_ab/lambda >= 1, no hopping rate applies).",
+                "lambda = lambda_in + lambda_out (crosses: the golden-rule formula is outside its range or cannot be judged there).",
                 {"transfer": tr["name"]})
     sites = sites_of(data)
     for n, st in enumerate(data.get("states", [])):

@@ -29,18 +29,21 @@ def _scan_panel(ax, tr: dict) -> None:
 
 
 def _rate_panel(ax, tr: dict) -> None:
-    routes: list[str] = []
+    series: list[tuple[str, str | None]] = []
     for row in tr.get("rates", []):
-        if row["route"] not in routes:
-            routes.append(row["route"])
-    for i, route in enumerate(routes):
-        rows = sorted((x for x in tr["rates"] if x["route"] == route and x.get("separation_angstrom") is not None
-                       and x.get("rate_per_s")), key=lambda x: x["separation_angstrom"])
+        key = (row["route"], row.get("level_of_theory"))
+        if key not in series:
+            series.append(key)
+    for i, (route, level) in enumerate(series):
+        rows = sorted((x for x in tr["rates"] if (x["route"], x.get("level_of_theory")) == (route, level)
+                       and x.get("separation_angstrom") is not None and x.get("rate_per_s")),
+                      key=lambda x: x["separation_angstrom"])
         if not rows:
             continue
         st = _style(i)
         ax.plot([x["separation_angstrom"] for x in rows], [x["rate_per_s"] for x in rows], color=st["color"],
-                linestyle=st["linestyle"], marker=st["marker"], markerfacecolor="white", markersize=4, label=_t(route))
+                linestyle=st["linestyle"], marker=st["marker"], markerfacecolor="white", markersize=4,
+                label=_t(f"{route} ({level})" if level else route))
         bad = [x for x in rows if not x.get("holds")]
         if bad:
             ax.plot([x["separation_angstrom"] for x in bad], [x["rate_per_s"] for x in bad], linestyle="none",
@@ -53,7 +56,8 @@ def _rate_panel(ax, tr: dict) -> None:
 
 @_with_rc
 def scan_figure(tr: dict) -> Figure:
-    """Left: H_ab against R per route, with the fit; right: k(R) (crosses where 2H_ab/lambda >= 1)."""
+    """Left: H_ab against R per route, with the fit; right: k(R) (crosses where the golden-rule formula is
+    outside its range or cannot be judged)."""
     with_rates = any(x.get("rate_per_s") and x.get("separation_angstrom") is not None for x in tr.get("rates", []))
     fig = _figure(6.4 if with_rates else 3.6, 3.0)
     if with_rates:
