@@ -9,8 +9,11 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import pkgutil
+import signal
 import sys
+import warnings
 
 from dossier import __version__, commands
 from dossier.errors import DossierError
@@ -51,6 +54,21 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
     return parser
 
 
+class Terminated(KeyboardInterrupt):
+    """SIGTERM (a queue's kill, `kill PID`), raised like Ctrl-C so the same clean-up runs."""
+
+
+def _on_sigterm(signum, frame):  # noqa: ARG001 - signal handler signature
+    raise Terminated()
+
+
+def _one_line_warning(message, category, filename, lineno, file=None, line=None):  # noqa: ARG001
+    """A library warning the code did not already handle, as one line on stderr (not a source excerpt)."""
+    where = os.path.basename(str(filename))
+    text = " ".join(str(message).split())
+    print(f"dossier: note: {category.__name__} in {where}:{lineno}: {text}", file=file or sys.stderr)
+
+
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
     parser = build_parser(only=_chosen_command(argv, command_names()))
@@ -58,18 +76,32 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "_run", None):
         parser.print_help(sys.stderr)
         return EXIT_ERROR
+    previous = signal.getsignal(signal.SIGTERM)
     try:
-        return int(args._run(args) or 0)
+        signal.signal(signal.SIGTERM, _on_sigterm)
+    except ValueError:  # not the main thread (tests calling main() from a thread): leave it
+        previous = None
+    try:
+        with warnings.catch_warnings():
+            if not args.debug:
+                warnings.showwarning = _one_line_warning
+            return int(args._run(args) or 0)
     except DossierError as exc:
         if args.debug:
             raise
         print(f"dossier: {exc}", file=sys.stderr)
         return EXIT_ERROR
+    except Terminated:
+        print("dossier: terminated (SIGTERM); nothing half-written was left behind", file=sys.stderr)
+        return 128 + signal.SIGTERM
     except KeyboardInterrupt:
         print("dossier: interrupted; nothing half-written was left behind", file=sys.stderr)
         return 130
     except BrokenPipeError:
         return EXIT_OK
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -92,3 +92,13 @@ LITRE_M3 = _c.liter
 # above 5000 K the rigid-rotor/harmonic models and every rate formula here are meaningless
 # (common practice, no source).
 TEMPERATURE_RANGE_K = (1.0, 5000.0)
+
+# Frequency scale factors the dossier accepts (manifest frequency_scale, thermo --scale): published
+# factors lie between about 0.85 and 1.05; outside 0.5-2 a factor is a typing error (common practice,
+# no source).
+FREQUENCY_SCALE_RANGE = (0.5, 2.0)
+# Quasi-RRHO switch frequencies accepted (thermo --qrrho-cutoff), cm-1 (common practice, no source).
+QRRHO_CUTOFF_RANGE_CM1 = (1.0, 1000.0)
+# Pressures accepted for the translational entropy (thermo --pressure), Pa: 1 mPa to 1 GPa, where an
+# ideal gas is at least a defined model (common practice, no source).
+PRESSURE_RANGE_PA = (1e-3, 1e9)

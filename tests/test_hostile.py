@@ -581,3 +581,131 @@ def test_a_user_template_without_the_policy_gets_it(cut_build, tmp_path):
     base = (ROOT_TEMPLATES / "base.html").read_text()
     (tmp_path / "base.html").write_text(base.replace(CSP_META, ""))
     assert CSP_META in render_html(cut_build.data, [], templates_dir=tmp_path)
+
+
+# -- item 7 (manifest side) and item 8: naming a job; finite numbers; one range; signals ------------
+
+def test_manifest_names_a_job_within_a_file(tmp_path):
+    from dossier.project import load_project
+
+    log = _link1(tmp_path)
+    manifest = tmp_path / "dossier.toml"
+    manifest.write_text(f'[states.neutral]\ngeometry = "{log.name}#job1"\n\n'
+                        f'[states.cation]\ngeometry = "{log.name}#job2"\n')
+    project = load_project(manifest, jobs=1, use_cache=False)
+    neutral, cation = (project.states[n].geometry for n in ("neutral", "cation"))
+    assert (neutral.charge, cation.charge) == (0, 1)
+    assert cation.energy_hartree == pytest.approx(G_CATION_E, abs=1e-9)
+    assert project.label(cation) == f"{log.name}#job2"
+    manifest.write_text(f'[states.x]\ngeometry = "{log.name}#job3"\n')
+    with pytest.raises(DossierError, match="has no job 3"):
+        load_project(manifest, jobs=1, use_cache=False)
+
+
+def test_init_drafts_from_each_job(tmp_path, capsys):
+    from dossier.cli import main
+
+    folder = tmp_path / "runs"
+    folder.mkdir()
+    _link1(folder)
+    assert main(["init", str(folder), "--jobs", "1", "--no-cache"]) == 0
+    draft = (folder / "dossier.toml").read_text()
+    assert 'geometry = "opt_then_cation.log#job1"' in draft  # the optimisation is a state
+    assert "opt_then_cation.log#job2" in draft  # the cation single point is listed, not merged
+
+
+@pytest.mark.parametrize("line, key", [
+    ("frequency_scale = inf", "project.frequency_scale"),
+    ("imaginary_threshold_cm1 = nan", "project.imaginary_threshold_cm1"),
+    ("temperatures_k = [298.15, -inf]", "project.temperatures_k[2]"),
+    ("frequency_scale = 1e-300", "project.frequency_scale"),
+])
+def test_manifest_numbers_must_be_finite_and_in_range(small, tmp_path, line, key):
+    from dossier.project import load_manifest
+
+    manifest = small["manifest"].parent / "bad-number.toml"
+    manifest.write_text(SMALL_MANIFEST.replace("[project]\n", f"[project]\n{line}\n"))
+    try:
+        with pytest.raises(DossierError) as exc:
+            load_manifest(manifest)
+    finally:
+        manifest.unlink()
+    assert key in str(exc.value) and ":2:" in str(exc.value)  # names the line of the bad value
+
+
+def test_non_finite_anywhere_in_the_manifest_is_refused(small):
+    from dossier.project import load_manifest
+
+    manifest = small["manifest"].parent / "bad-experiment.toml"
+    manifest.write_text(SMALL_MANIFEST + '\n[[experiment.rates]]\npathway = "p"\ntemperature_k = 298.15\n'
+                                         'rate_per_s = +inf\n')
+    try:
+        with pytest.raises(DossierError, match=r"experiment\.rates\[1\]\.rate_per_s is inf"):
+            load_manifest(manifest)
+    finally:
+        manifest.unlink()
+
+
+@pytest.mark.parametrize("kelvin, ok", [(0.5, False), (1.0, True), (5000.0, True), (5000.5, False), (1e9, False)])
+def test_cli_temperature_range_is_the_manifest_range(small, kelvin, ok, capsys):
+    from dossier.cli import main
+    from dossier.project import load_manifest
+
+    manifest = small["manifest"].parent / "range.toml"
+    manifest.write_text(SMALL_MANIFEST.replace("[project]\n", f"[project]\ntemperatures_k = [{kelvin!r}]\n"))
+    try:
+        load_manifest(manifest)
+        manifest_ok = True
+    except DossierError:
+        manifest_ok = False
+    finally:
+        manifest.unlink()
+    try:
+        rc = main(["thermo", str(small["runs"] / "dvb_ir.out"), "--temperature", repr(kelvin), "--no-cache"])
+    except SystemExit as exc:  # argparse refuses with exit status 2
+        rc = exc.code
+    capsys.readouterr()
+    assert manifest_ok == ok and (rc == 0) == ok
+
+
+def test_no_raw_library_warning_reaches_stderr(small, tmp_path, capsys):
+    from dossier.cli import main
+
+    # a project without sites: the population figure once called an empty legend (a matplotlib warning)
+    assert main(["build", str(small["manifest"]), "--out", str(tmp_path / "b"), "--formats", "html",
+                 "--jobs", "1", "--quiet"]) == 0
+    err = capsys.readouterr().err
+    assert "Warning" not in err and "warn(" not in err
+
+
+def test_a_library_warning_left_is_one_line(capsys):
+    import warnings
+
+    from dossier.cli import _one_line_warning
+
+    _one_line_warning(warnings.WarningMessage("divide by zero\n encountered", RuntimeWarning, "/x/y.py", 3).message,
+                      RuntimeWarning, "/x/y.py", 3)
+    err = capsys.readouterr().err
+    assert err == "dossier: note: RuntimeWarning in y.py:3: divide by zero encountered\n"
+
+
+def test_sigterm_is_handled_like_ctrl_c(small, tmp_path):
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "b"
+    proc = subprocess.Popen([sys.executable, "-m", "dossier", "build", str(small["manifest"]), "--out", str(out),
+                             "--formats", "html,pdf", "--jobs", "1", "--no-cache"],
+                            stderr=subprocess.PIPE, stdout=subprocess.DEVNULL, text=True)
+    with deadline(120):
+        for line in proc.stderr:
+            if "drawing figures" in line:  # the temporary build folder exists from here on
+                time.sleep(0.2)
+                proc.send_signal(signal.SIGTERM)
+                break
+        rest = proc.stderr.read()
+        rc = proc.wait()
+    assert rc == 128 + signal.SIGTERM, rest
+    assert "terminated (SIGTERM)" in rest and "Traceback" not in rest
+    assert not out.exists() and not list(tmp_path.glob(".b.*"))  # no .building-PID folder left

@@ -30,8 +30,19 @@ def _positive_float(text: str) -> float:
     except ValueError:
         raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
     if not (value > 0 and math.isfinite(value)):
-        raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
+        raise argparse.ArgumentTypeError(f"must be a finite positive number, got {text}")
     return value
+
+
+def _within(low: float, high: float, unit: str, what: str):
+    """An argparse type: a finite number from `low` to `high`, the manifest's range (dossier.units)."""
+    def parse(text: str) -> float:
+        value = _positive_float(text)
+        if not low <= value <= high:
+            raise argparse.ArgumentTypeError(f"{what} must be from {low:g} to {high:g}{unit}, got {text}")
+        return value
+
+    return parse
 
 
 def _positive_int(text: str) -> int:
@@ -46,7 +57,8 @@ def _positive_int(text: str) -> int:
 
 def _temperatures(text: str) -> list[float]:
     """"273.15,298.15" -> [273.15, 298.15]: a list, as the manifest's temperatures_k."""
-    values = [_positive_float(t.strip()) for t in text.split(",") if t.strip()]
+    in_range = _within(*units.TEMPERATURE_RANGE_K, " K", "a temperature")
+    values = [in_range(t.strip()) for t in text.split(",") if t.strip()]
     if not values:
         raise argparse.ArgumentTypeError("give at least one temperature in kelvin, e.g. 298.15")
     return list(dict.fromkeys(values))
@@ -66,7 +78,7 @@ def add_arguments(parser) -> None:
     group.add_argument("--qrrho", choices=QRRHO_METHODS, default=defaults.qrrho,
                        help="low-mode treatment: grimme (default; Grimme 2012 entropy), truhlar (low modes "
                             "raised, Ribeiro et al. 2011) or none (harmonic)")
-    group.add_argument("--frequency-scale", type=_positive_float, default=defaults.frequency_scale, metavar="F",
+    group.add_argument("--frequency-scale", type=_within(*units.FREQUENCY_SCALE_RANGE, "", "the frequency scale"), default=defaults.frequency_scale, metavar="F",
                        help="factor applied to every wavenumber (default 1.0)")
     group.add_argument("--energy-unit", choices=ENERGY_UNITS, default=defaults.energy_unit,
                        help="unit of the card's energies (default kJ/mol; --json always gives hartree)")
@@ -75,9 +87,9 @@ def add_arguments(parser) -> None:
     group.add_argument("--geometry", default=None, metavar="FILE",
                        help="take the coordinates from this output (a Hessian job that prints none); one FILE only")
     more = parser.add_argument_group("further settings (not in the manifest)")
-    more.add_argument("--pressure-pa", type=_positive_float, default=None, metavar="PA",
+    more.add_argument("--pressure-pa", type=_within(*units.PRESSURE_RANGE_PA, " Pa", "the pressure"), default=None, metavar="PA",
                       help="pressure for the translational entropy, in Pa (replaces --standard-state)")
-    more.add_argument("--qrrho-cutoff-cm1", type=_positive_float, default=None, metavar="CM1",
+    more.add_argument("--qrrho-cutoff-cm1", type=_within(*units.QRRHO_CUTOFF_RANGE_CM1, " cm-1", "the cutoff"), default=None, metavar="CM1",
                       help="grimme: the rotor/oscillator switch wavenumber; truhlar: the wavenumber low modes "
                            "are raised to (both 100 cm-1 by default)")
     more.add_argument("--masses", choices=("isotopic", "average"), default="isotopic",

@@ -17,6 +17,8 @@ documented in docs/manifest.md.
 from __future__ import annotations
 
 import difflib
+import math
+import os
 import re
 import tomllib
 from pathlib import Path
@@ -29,7 +31,8 @@ from dossier.project.model import (
     THERMAL_SOURCES, FamilySpec, Manifest, PathwaySpec, Recipe, Settings, StateSpec, _norm,
 )
 from dossier.project.transfers import transfers_table
-from dossier.units import TEMPERATURE_RANGE_K
+from dossier.reading.jobs import split_name
+from dossier.units import FREQUENCY_SCALE_RANGE, TEMPERATURE_RANGE_K
 
 _TOP_KEYS = ("project", "sites", "states", "recipes", "pathways", "isomer_families", "transfers", "uncertainty",
              "experiment")
@@ -105,13 +108,17 @@ class _Validator:
         return value
 
     def number(self, table: dict, key: tuple, default: float, *, positive: bool = False,
-               nonnegative: bool = False) -> float:
+               nonnegative: bool = False, within: tuple[float, float] | None = None) -> float:
         name = key[-1]
         if name not in table:
             return default
         value = table[name]
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise self.fail(key, f"{_dotted(key)} must be a number; got {_type_word(value)} {value!r}")
+        if not math.isfinite(value):
+            raise self.fail(key, f"{_dotted(key)} must be a finite number; got {value}")
+        if within is not None and not within[0] <= value <= within[1]:
+            raise self.fail(key, f"{_dotted(key)} = {value:g} is outside {within[0]:g} to {within[1]:g}")
         if positive and not value > 0:
             raise self.fail(key, f"{_dotted(key)} must be greater than zero; got {value}")
         if nonnegative and value < 0:
@@ -187,10 +194,13 @@ class _Files:
             raise v.fail(key, f"{_dotted(key)} is empty; give the output file's path relative to {root}")
         p = Path(value).expanduser()
         full = _norm(p if p.is_absolute() else root / p)
-        if not full.exists():
+        on_disk, job = split_name(str(full))
+        if job is None or os.path.lexists(full):  # "run.log#job2": job 2 of run.log (dossier.reading.jobs)
+            on_disk = str(full)
+        if not os.path.lexists(on_disk) or not Path(on_disk).exists():
             raise v.fail(key, f"{_dotted(key)}: file '{value}' does not exist (paths are relative to the "
                               f"manifest's folder {root}); fix the path or add the file")
-        if not full.is_file():
+        if not Path(on_disk).is_file():
             raise v.fail(key, f"{_dotted(key)}: '{value}' is not a file; name the output file itself")
         self.labels.setdefault(full, value)
         self.lines.setdefault(full, v.loc.line_of(key))
@@ -281,7 +291,7 @@ def _project_table(raw: dict, v: _Validator, root: Path) -> tuple[str, list[str]
         energy_unit=v.string(proj, ("project", "energy_unit"), choices=ENERGY_UNITS, default="kJ/mol"),
         standard_state=v.string(proj, ("project", "standard_state"), choices=STANDARD_STATES, default="1M"),
         qrrho=v.string(proj, ("project", "qrrho"), choices=QRRHO_MODES, default="grimme"),
-        frequency_scale=v.number(proj, ("project", "frequency_scale"), 1.0, positive=True),
+        frequency_scale=v.number(proj, ("project", "frequency_scale"), 1.0, within=FREQUENCY_SCALE_RANGE),
         imaginary_threshold_cm1=v.number(proj, ("project", "imaginary_threshold_cm1"), 20.0, nonnegative=True),
     )
     return title, authors, settings
@@ -534,6 +544,19 @@ def _passthrough_table(raw: dict, v: _Validator, section: str) -> dict[str, Any]
     return dict(raw.get(section, {}))
 
 
+def _refuse_non_finite(value: Any, v: _Validator, key: tuple = ()) -> None:
+    """TOML allows inf and nan; no number of a manifest may be either (a threshold of nan or a
+    scale of inf would silently flip results). Checked once, over every value, before the tables."""
+    if isinstance(value, float) and not math.isfinite(value):
+        raise v.fail(key, f"{_dotted(key)} is {value}; every number in a manifest must be finite")
+    if isinstance(value, dict):
+        for k, item in value.items():
+            _refuse_non_finite(item, v, key + (k,))
+    elif isinstance(value, list):
+        for i, item in enumerate(value):
+            _refuse_non_finite(item, v, key + (i,))
+
+
 def load_manifest(path: str | Path) -> Manifest:
     """Read and validate a manifest. Raises ManifestError (one line, names the line) on any problem."""
     display = str(path)
@@ -542,6 +565,7 @@ def load_manifest(path: str | Path) -> Manifest:
     raw = _parse_toml(text, display)
     loc = Locator(text)
     v = _Validator(display, loc)
+    _refuse_non_finite(raw, v)
     root = abspath.parent
     files = _Files(v, root)
 

@@ -299,8 +299,9 @@ def site_population_figure(states: list[dict], scheme: str) -> Figure:
         ax.axhline(0.0, color="#1b1b1b", linewidth=0.6)
         ax.set_ylabel(label)
     axes[1].set_xticks(range(len(rows)), [_t(r[0]) for r in rows])
-    axes[0].legend(title="site", fontsize=7, title_fontsize=7, ncols=min(len(sites), 5), loc="lower center",
-                   bbox_to_anchor=(0.5, 1.0))
+    if sites:  # no site named: no legend (matplotlib would warn about an empty one)
+        axes[0].legend(title="site", fontsize=7, title_fontsize=7, ncols=min(len(sites), 5), loc="lower center",
+                       bbox_to_anchor=(0.5, 1.0))
     return fig
 
 
