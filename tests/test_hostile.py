@@ -13,6 +13,7 @@ import json
 import lzma
 import os
 import random
+import re
 import signal
 import stat
 from contextlib import contextmanager
@@ -149,13 +150,20 @@ def _link1(tmp_path):
 
 
 def _orca_new_job(tmp_path):
+    """An ORCA compound run as ORCA writes one: the whole input echoed once (the two jobs
+    separated by $new_job), then each job after its JOB NUMBER line; made of two real runs."""
     end = "****END OF INPUT****"
     head, body1 = _text(O_FREQ).split(end, 1)
     body1 = body1.split("****ORCA TERMINATED NORMALLY****")[0]
-    body2 = _text(O_CATION).split(end, 1)[1]
+    head2, body2 = _text(O_CATION).split(end, 1)
+    echo = re.compile(r"^\|\s*\d+>")
+    n = sum(1 for line in head.splitlines() if echo.match(line))
+    second = [line for line in head2.splitlines() if echo.match(line)]
+    extra = [f"|{n + 1:3d}> $new_job"] + [echo.sub(f"|{n + 2 + i:3d}>", line) for i, line in enumerate(second)]
+    head = head.rstrip(" ") + "\n".join(extra) + "\n                         "
 
-    def banner(n):
-        return f"\n                         $$$$$$$$$$$$$$$$  JOB NUMBER  {n} $$$$$$$$$$$$$$\n"
+    def banner(k):
+        return f"\n                         $$$$$$$$$$$$$$$$  JOB NUMBER  {k} $$$$$$$$$$$$$$\n"
 
     log = tmp_path / "compound.out"
     log.write_text(head + end + "\n" + banner(1) + body1 + banner(2) + body2)
@@ -192,6 +200,8 @@ def test_orca_new_job_and_appended_runs(tmp_path):
     assert freq.status.word == "ok"  # ended before job 2 started: not cut off
     assert len(freq.vibrations.wavenumbers_cm1) == 54 and cation.vibrations is None  # dvb: 3*20-6 modes
     assert cation.energy_hartree == pytest.approx(-381.831981252254, abs=1e-9)
+    # each job reads its own part of the input echo: both inputs say B3LYP (dvb_ir.inp, dvb_sp_un.out echo)
+    assert freq.level.functional == cation.level.functional == "B3LYP"
     appended = tmp_path / "appended.out"
     appended.write_text(_text(O_FREQ) + _text(O_CATION))
     assert [j.charge for j in read_jobs(appended, use_cache=False)] == [0, 1]
@@ -709,3 +719,25 @@ def test_sigterm_is_handled_like_ctrl_c(small, tmp_path):
     assert rc == 128 + signal.SIGTERM, rest
     assert "terminated (SIGTERM)" in rest and "Traceback" not in rest
     assert not out.exists() and not list(tmp_path.glob(".b.*"))  # no .building-PID folder left
+
+
+@pytest.mark.parametrize("command", ["check {m}", "build {m}", "archive {m} --out {d}/a.tar.gz", "verify {a}",
+                                     "check {real} --against {a}", "thermo {m}", "init {d}/runs --jobs 1"])
+def test_no_command_hangs_on_a_named_pipe(small, tmp_path, capsys, command):
+    from dossier.cli import main
+
+    pipe_m, pipe_a = tmp_path / "dossier.toml", tmp_path / "x.tar.gz"
+    os.mkfifo(pipe_m)
+    os.mkfifo(pipe_a)
+    if command.startswith("init"):
+        (tmp_path / "runs").mkdir()
+        os.mkfifo(tmp_path / "runs" / "queue.out")  # a pipe among the outputs init reads
+        (tmp_path / "runs" / "dvb_ir.out").write_bytes((small["runs"] / "dvb_ir.out").read_bytes())
+    argv = command.format(m=pipe_m, a=pipe_a, d=tmp_path, real=small["manifest"]).split()
+    with deadline(60):
+        rc = main(argv)
+    err = capsys.readouterr().err
+    if command.startswith("init"):  # the draft is written; the pipe is listed as not read
+        assert rc == 0 and "queue.out: not read: is a named pipe" in (tmp_path / "runs" / "dossier.toml").read_text()
+    else:
+        assert rc != 0 and "named pipe" in err

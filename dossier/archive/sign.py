@@ -16,6 +16,7 @@ import tempfile
 from pathlib import Path
 
 from dossier.errors import ArchiveError
+from dossier.reading.files import refuse_special
 
 NAMESPACE = "dossier-archive@dossier"
 SIG_SUFFIX = ".sig"
@@ -45,6 +46,7 @@ def _last_line(text: str) -> str:
 def sign_file(path: Path, key: str | os.PathLike) -> Path:
     """Sign `path` with the private key `key` (or the public key of a key held by ssh-agent); returns PATH.sig."""
     key = Path(key).expanduser()
+    refuse_special(key, ArchiveError, "key file")
     if not key.is_file():
         raise ArchiveError("no such key file", where=str(key))
     sig = Path(f"{path}{SIG_SUFFIX}")
@@ -70,6 +72,7 @@ def verify_signature(path: Path, signer: str | os.PathLike) -> str:
     sig = Path(f"{path}{SIG_SUFFIX}")
     if not sig.is_file():
         raise ArchiveError(f"no signature beside the archive (expected {sig.name})", where=str(path))
+    refuse_special(signer, ArchiveError, "key file")
     try:
         signer_text = signer.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:

@@ -25,6 +25,7 @@ from dossier.archive.common import (
 from dossier.archive.write import _call_builder, _default_builder
 from dossier.archive.sign import verify_signature
 from dossier.errors import ArchiveError, DossierError
+from dossier.reading.files import refuse_special
 from dossier.reading.jobs import split_name
 
 # -- verification ------------------------------------------------------------------
@@ -76,6 +77,7 @@ def _parse_checksums(text: str, report: VerifyReport) -> dict[str, str]:
 
 
 def _open_archive(path: Path) -> tarfile.TarFile:
+    refuse_special(path, ArchiveError, "archive file")
     try:
         return tarfile.open(path, mode="r:gz")
     except FileNotFoundError:

@@ -45,6 +45,7 @@ from dossier.archive.common import (
 )
 from dossier.archive.sign import NAMESPACE, SIG_SUFFIX, sign_file
 from dossier.errors import ArchiveError
+from dossier.reading.files import refuse_special
 from dossier.reading.jobs import split_name
 from dossier.report.targets import check_file_target
 
@@ -459,6 +460,7 @@ def write_archive(
     from dossier.report.targets import project_inputs
 
     manifest_path = Path(manifest_path)
+    refuse_special(manifest_path, ArchiveError, "manifest file")
     if not manifest_path.is_file():
         raise ArchiveError("manifest not found", where=str(manifest_path))
     mtime = _fixed_mtime(source_date_epoch)

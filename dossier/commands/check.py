@@ -10,6 +10,7 @@ import sys
 from pathlib import Path
 
 from dossier.errors import ManifestError
+from dossier.reading.files import refuse_special
 
 HELP = "check a project's manifest and outputs for physics and bookkeeping errors"
 
@@ -33,6 +34,7 @@ def previous_sources(path: str | Path) -> list[dict]:
     if path.is_dir():
         path = path / "dossier.json"  # a build folder
     where = str(path)
+    refuse_special(path, ManifestError, "dossier.json")
     try:
         data = json.loads(Path(path).read_text(encoding="utf-8"))
     except FileNotFoundError:

@@ -12,8 +12,7 @@ import sys
 import tempfile
 from pathlib import Path
 
-from dossier.errors import DossierError, ManifestError, ReadError
-from dossier.records import Calculation
+from dossier.errors import DossierError, ManifestError
 from dossier.report.targets import INPUT_SUFFIXES, check_file_target
 
 HELP = "draft a project manifest (dossier.toml) from a folder of output files"
@@ -25,22 +24,6 @@ def add_arguments(parser) -> None:
     parser.add_argument("--force", action="store_true", help="replace an existing manifest")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
     parser.add_argument("--no-cache", action="store_true", help="parse every file again; neither use nor write the cache")
-
-
-def _every_job(paths, results, use_cache: bool) -> list[tuple[Path, Calculation | ReadError]]:
-    """(path, record) per job: a file holding several jobs gives one entry per job, ``FILE#jobN``."""
-    from dossier.reading import read_jobs
-
-    out: list[tuple[Path, Calculation | ReadError]] = []
-    for p, r in zip(paths, results):
-        if isinstance(r, Calculation) and r.source.jobs_in_file > 1:
-            try:
-                out += [(Path(c.source.path), c) for c in read_jobs(p, use_cache=use_cache)]
-                continue
-            except ReadError as exc:
-                r = exc
-        out.append((p, r))
-    return out
 
 
 def _file_mode() -> int:
@@ -70,7 +53,7 @@ def write_atomically(path: Path, text: str) -> None:
 def run(args) -> int:
     from dossier.commands._progress import StageProgress
     from dossier.project.drafting import draft_manifest
-    from dossier.reading import find_outputs, read_many
+    from dossier.reading import every_job, find_outputs, read_many
 
     folder = Path(args.folder)
     if not folder.is_dir():
@@ -88,7 +71,7 @@ def run(args) -> int:
     with StageProgress("init", lines=False, delay_s=1.0) as progress:  # a bar on a terminal only
         progress("reading output files")
         read = read_many(paths, jobs=args.jobs, use_cache=not args.no_cache, progress=progress.step)
-    results = _every_job(paths, read, not args.no_cache)
+    results = every_job(paths, read, use_cache=not args.no_cache)
     draft = draft_manifest(folder.resolve().name, Path(os.path.abspath(out)).parent, results)
     check_file_target(out, inputs, hint="give the manifest's file name")  # again: the reading took a while
     write_atomically(out, draft.text)

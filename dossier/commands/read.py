@@ -70,7 +70,7 @@ def _table(records) -> str:
 
 def run(args) -> int:
     from dossier.commands._progress import StageProgress
-    from dossier.reading import read_many
+    from dossier.reading import every_job, read_many
 
     notes: list[str] = []
     files = _expand(args.paths, notes)
@@ -83,6 +83,8 @@ def run(args) -> int:
                             progress=progress.step)
     records = []
     failed = 0
+    # a file holding several jobs: one record per job (FILE#job1, FILE#job2, ...)
+    results = [r for _, r in every_job(files, results, use_cache=not args.no_cache, cache_dir=args.cache_dir)]
     for res in results:
         if isinstance(res, ReadError):
             failed += 1

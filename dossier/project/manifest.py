@@ -137,6 +137,9 @@ class _Validator:
 
 
 def _read_text(path: Path, display: str) -> str:
+    from dossier.reading.files import refuse_special
+
+    refuse_special(path, ManifestError, "manifest file")
     try:
         data = path.read_bytes()
     except FileNotFoundError:

@@ -35,7 +35,7 @@ from dossier.reading.jobs import job_name, split_jobs, split_name
 from dossier.reading.parallel import read_many
 from dossier.records import Calculation, Source
 
-__all__ = ["read", "read_jobs", "read_many", "find_outputs", "READER_VERSION", "default_cache_dir", "OUTPUT_SUFFIXES"]
+__all__ = ["read", "read_jobs", "read_many", "every_job", "find_outputs", "READER_VERSION", "default_cache_dir", "OUTPUT_SUFFIXES"]
 
 #: File name endings `find_outputs` collects from a folder (also compressed: run.log.gz).
 OUTPUT_SUFFIXES = tuple(f"{s}{z}" for s in (".out", ".log", ".output") for z in ("", ".gz", ".bz2", ".xz"))
@@ -132,6 +132,21 @@ def read(path, *, use_cache: bool = True, cache_dir=None, max_bytes: int | None 
         file_part, job = where, None  # a file really named like that
     calcs = read_jobs(file_part, use_cache=use_cache, cache_dir=cache_dir, max_bytes=max_bytes)
     return pick_job(calcs, file_part, job)
+
+
+def every_job(paths, results, *, use_cache: bool = True, cache_dir=None) -> list[tuple[Path, Calculation | ReadError]]:
+    """(path, record or error) per job: a file named whole that holds several jobs gives one entry
+    per job (``FILE#jobN``, read from the cache the first read filled); others pass through."""
+    out: list[tuple[Path, Calculation | ReadError]] = []
+    for p, r in zip(paths, results):
+        if isinstance(r, Calculation) and r.source.jobs_in_file > 1 and split_name(str(p))[1] is None:
+            try:
+                out += [(Path(c.source.path), c) for c in read_jobs(p, use_cache=use_cache, cache_dir=cache_dir)]
+                continue
+            except ReadError as exc:
+                r = exc
+        out.append((Path(p), r))
+    return out
 
 
 def find_outputs(folder, *, notes: list[str] | None = None) -> list[Path]:

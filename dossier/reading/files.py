@@ -169,3 +169,15 @@ def decode(raw: bytes, where: str) -> tuple[str, str | None]:
     if "\x00" in text[:65536]:
         raise ReadError("binary data, not a text output file", where)
     return text, label
+
+
+def refuse_special(path, error_cls=ReadError, what: str = "file") -> None:
+    """Raise `error_cls` for anything at `path` that is not a regular file (checked by type, without
+    opening it: a named pipe would block). A missing path passes: the caller's own open reports it."""
+    try:
+        mode = os.stat(path).st_mode
+    except OSError:
+        return
+    kind = kind_of(mode)
+    if kind is not None and kind != "a folder":
+        raise error_cls(f"is {kind}, not a regular {what}; only regular files are read", str(path))

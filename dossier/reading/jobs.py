@@ -9,8 +9,10 @@ gives each job its own record (``Source.job`` = 1, 2, ...; provenance ``path#job
 
 Markers are taken from the programs' outputs: Gaussian 16 prints " Entering Gaussian
 System" and " Entering Link 1 = " at the start of a run and of every job step; ORCA 5/6
-prints the "* O   R   C   A *" banner once per run and, for ``$new_job`` inputs,
-"$$$$$$$$$$$$$$$$  JOB NUMBER  n $$$$$$$$$$$$$$" before each job.
+prints the "* O   R   C   A *" banner once per run, echoes the whole input (its jobs separated by
+``$new_job``) once, and, for ``$new_job`` inputs, prints "$$$$$$$$$$$$$$$$  JOB NUMBER  n
+$$$$$$$$$$$$$$" before each job. Each ORCA job's text starts with a copy of the run's banner and
+its own part of the echo.
 """
 from __future__ import annotations
 
@@ -24,7 +26,7 @@ _GAUSSIAN_RUN = re.compile(r"^ Entering Gaussian System", re.M)
 _GAUSSIAN_STEP = re.compile(r"^ Entering Link 1 = ", re.M)
 _ORCA_BANNER = re.compile(r"^[ \t]*\*[ \t]+O   R   C   A[ \t]+\*[ \t]*$", re.M)
 _ORCA_JOB = re.compile(r"^[ \t]*\$+[ \t]+JOB NUMBER[ \t]+(\d+)[ \t]+\$+[ \t]*$", re.M)
-_ORCA_INPUT = re.compile(r"^[ \t]*INPUT FILE[ \t]*$", re.M)
+_ORCA_ECHO = re.compile(r"^\|\s*\d+>")
 ORCA_NORMAL_END = "****ORCA TERMINATED NORMALLY****"
 
 
@@ -74,44 +76,60 @@ def _gaussian_starts(text: str) -> list[int]:
     return sorted(starts)
 
 
-def _orca_starts(text: str) -> tuple[list[int], set[int]]:
-    """Job start offsets, and the subset that begin a new $new_job job of a running compound."""
-    starts = [_back_over_frame(text, _line_start(text, m.start())) for m in _ORCA_BANNER.finditer(text)]
-    compound = set()
-    for m in _ORCA_JOB.finditer(text):
-        if int(m.group(1)) > 1:
-            starts.append(m.start())
-            compound.add(m.start())
-    return sorted(starts), compound
+def _orca_runs(text: str) -> list[str]:
+    """The text of each ORCA run appended to the file (one per program banner)."""
+    starts = sorted({0, *[_back_over_frame(text, _line_start(text, m.start())) for m in _ORCA_BANNER.finditer(text)]})
+    starts = [s for s in starts if s == 0 or text[:s].strip()]
+    return [text[a:b] for a, b in zip(starts, starts[1:] + [len(text)])]
 
 
-def _orca_header(text: str) -> str:
-    """The run's banner up to its input echo: program and version for the later jobs of a compound run."""
-    m = _ORCA_INPUT.search(text)
-    return text[: _line_start(text, m.start())] if m else ""
+def _echo_heads(head: str, n_jobs: int) -> list[str]:
+    """Job k's copy of the run's header: the banner, then only job k's lines of the input echo.
+
+    ORCA echoes the whole input (every job, separated by ``$new_job``) once, before job 1; a job's
+    keywords (functional, basis, charge) are read from the echo, so each job sees its own part.
+    """
+    lines = head.splitlines(keepends=True)
+    echo = [i for i, line in enumerate(lines) if _ORCA_ECHO.match(line)]
+    if not echo:
+        return [head] * n_jobs
+    groups: list[list[str]] = [[]]
+    for i in echo:
+        if "$new_job" in lines[i].lower():
+            groups.append([])
+        else:
+            groups[-1].append(lines[i])
+    before, after = "".join(lines[: echo[0]]), "".join(lines[echo[-1] + 1:])
+    if len(groups) != n_jobs:  # an echo that does not split into the jobs: no job gets another's keywords
+        return [before + after] * n_jobs
+    return [before + "".join(g) + after for g in groups]
+
+
+def _orca_jobs(text: str) -> list[tuple[str, bool]]:
+    """(job text, finished_by_next) for every job of every run of an ORCA file."""
+    out: list[tuple[str, bool]] = []
+    for run in _orca_runs(text):
+        marks = [m.start() for m in _ORCA_JOB.finditer(run)]
+        if len(marks) < 2:
+            out.append((run, False))
+            continue
+        heads = _echo_heads(run[: marks[0]], len(marks))
+        bounds = marks + [len(run)]
+        for k, (a, b) in enumerate(zip(bounds, bounds[1:])):
+            out.append((heads[k] + run[a:b], k < len(marks) - 1))
+    return out
 
 
 def split_jobs(text: str, program: str) -> list[JobText]:
     """One JobText per job, in file order (a single-job file gives one, the whole text)."""
-    compound: set[int] = set()
-    if program == "Gaussian":
-        starts = _gaussian_starts(text)
-    elif program == "ORCA":
-        starts, compound = _orca_starts(text)
+    if program == "ORCA":
+        parts = _orca_jobs(text)
+    elif program == "Gaussian":
+        # text before the first marker (a queue system's header) belongs to the first job
+        starts = sorted({0, *[s for s in _gaussian_starts(text) if s > 0 and text[:s].strip()]})
+        parts = [(text[a:b], False) for a, b in zip(starts, starts[1:] + [len(text)])]
     else:
+        parts = [(text, False)]
+    if len(parts) <= 1:
         return [JobText(1, text)]
-    # text before the first marker (a queue system's header) belongs to the first job
-    starts = sorted({0, *[s for s in starts if s > 0 and text[:s].strip()]})
-    if len(starts) <= 1:
-        return [JobText(1, text)]
-    bounds = starts + [len(text)]
-    jobs = []
-    run_head = ""
-    for i, (a, b) in enumerate(zip(bounds, bounds[1:]), start=1):
-        part = text[a:b]
-        if a in compound:
-            part = run_head + part  # ORCA prints the banner once per run: give every job its version line
-        else:
-            run_head = _orca_header(part) if program == "ORCA" else ""
-        jobs.append(JobText(i, part, finished_by_next=b in compound))
-    return jobs
+    return [JobText(i, part, finished_by_next=done) for i, (part, done) in enumerate(parts, start=1)]
