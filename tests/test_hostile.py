@@ -474,8 +474,9 @@ product = "-1 anion"
 donor_site = "vinyl_a"
 acceptor_site = "vinyl_b"
 ''')
+    # the cut-off run is a check error: a draft build is the one that writes it out
     result = build_dossier(root / "dossier.toml", root / "out", formats=("json", "xyz", "csv", "tex", "bib", "html"),
-                           jobs=1, use_cache=False)
+                           jobs=1, use_cache=False, draft=True)
     return result
 
 
