@@ -672,7 +672,7 @@ def test_cli_temperature_range_is_the_manifest_range(small, kelvin, ok, capsys):
     finally:
         manifest.unlink()
     try:
-        rc = main(["thermo", str(small["runs"] / "dvb_ir.out"), "--temperature", repr(kelvin), "--no-cache"])
+        rc = main(["thermo", str(small["runs"] / "dvb_ir.out"), "--temperatures-k", repr(kelvin), "--no-cache"])
     except SystemExit as exc:  # argparse refuses with exit status 2
         rc = exc.code
     capsys.readouterr()
