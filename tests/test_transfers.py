@@ -191,3 +191,47 @@ def test_carrier_named_in_localization_sentences():
     assert "the electron moves" in loc.proton_shifts([("a", anion), ("b", anion)])["statement"]
     assert "hole" in loc._geometry_note("internal-bonds", cation.charge)
     assert "extra electron" in loc._geometry_note("internal-bonds", anion.charge)
+
+
+# -- the stacked-dimer demo (example_outputs/stacked_dimer; skips until it is there) ---------------------
+def _demo_transfer():
+    return analyse(load_project(demo_path("stacked_dimer/dossier.toml")))["transfers"][0]
+
+
+def _printed_ccsdt(path) -> float:
+    return float(re.findall(r"\* CCSD\(T\) total energy\s+=\s+(\S+)", open(path).read())[-1])
+
+
+def _printed_homo_pair(path) -> tuple[float, float]:
+    """HOMO-1 and HOMO energies (hartree) as NWChem prints them in its final orbital analysis."""
+    found = {}
+    for vec, occ, e in re.findall(r"Vector\s+(\d+)\s+Occ=(\S+)\s+E=\s*(\S+)", open(path).read()):
+        found[int(vec)] = (float(occ.replace("D", "E")), float(e.replace("D", "E")))
+    homo = max(v for v, (occ, _) in found.items() if occ > 1.0)
+    return found[homo - 1][1], found[homo][1]
+
+
+def test_demo_coupled_cluster_rung_and_scan():
+    import numpy as np
+
+    tr = _demo_transfer()
+    assert tr["carrier"] == "hole"  # furan radical cation
+    ladder = demo_path("stacked_dimer/ladder")
+    e = [_printed_ccsdt(ladder / f) for f in ("cation_ccsdt.out", "cation_at_neutral_ccsdt.out", "neutral_ccsdt.out",
+                                              "neutral_at_cation_ccsdt.out")]
+    hartree_kj_mol = sc.physical_constants["Hartree energy"][0] * sc.N_A / 1000  # CODATA
+    rung = next(r for r in tr["reorganization_energy"]["rungs"] if r["level_of_theory"].startswith("CCSD(T)"))
+    # the Psi4 logs' own printed CCSD(T) energies, four-point sum (Nelsen et al. 1987)
+    assert rung["value_kj_mol"] == pytest.approx(((e[1] - e[0]) + (e[3] - e[2])) * hartree_kj_mol, rel=1e-9)
+    assert {r["level_of_theory"].split("/")[0] for r in tr["reorganization_energy"]["rungs"]} >= {"HF", "MP2", "CCSD",
+                                                                                                 "CCSD(T)"}
+    scan = next(s for s in tr["scans"] if s["route"] == "orbital-splitting" and s["level_of_theory"].startswith("BHLYP"))
+    r = [p["separation_angstrom"] for p in scan["points"]]
+    h = []
+    for p in scan["points"]:
+        lo, hi = _printed_homo_pair(demo_path("stacked_dimer") / p["files"][0])
+        h.append((hi - lo) / 2)
+    # beta from the printed orbital energies by numpy's own least squares on ln H (numpy.polyfit)
+    slope = np.polyfit(r, np.log(h), 1)[0]
+    assert scan["fit"]["beta_per_angstrom"] == pytest.approx(-2 * slope, rel=1e-6)
+    assert r == pytest.approx([3.5, 4.0, 4.5, 5.0], abs=1e-6)  # the plane-to-plane distances of the inputs
