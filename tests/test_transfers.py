@@ -235,3 +235,35 @@ def test_demo_coupled_cluster_rung_and_scan():
     slope = np.polyfit(r, np.log(h), 1)[0]
     assert scan["fit"]["beta_per_angstrom"] == pytest.approx(-2 * slope, rel=1e-6)
     assert r == pytest.approx([3.5, 4.0, 4.5, 5.0], abs=1e-6)  # the plane-to-plane distances of the inputs
+
+
+def test_cross_transfer_with_one_molecule_on_both_sides_reduces_to_the_self_exchange(study):
+    donor = FOUR_POINT.replace("[transfers.four_point.bhlyp]", "[transfers.donor_four_point.bhlyp]").replace(
+        "neutral_opt", "X").replace("anion_opt", "neutral_opt").replace("X", "anion_opt").replace(
+        "neutral_at_anion", "Y").replace("anion_at_neutral", "neutral_at_anion").replace("Y", "anion_at_neutral")
+    acceptor = FOUR_POINT.replace("[transfers.four_point.bhlyp]", "[transfers.acceptor_four_point.bhlyp]")
+    cross = _write(study, '[[transfers]]\nname = "c"\ndriving_force = "fragments"\n' + donor + acceptor)
+    tr = analyse(load_project(cross))["transfers"][0]
+    assert tr["kind"] == "cross" and tr["carrier"] == "electron"  # donor: the anion gives its electron away
+    lam = tr["reorganization_energy"]["quoted"]["value_kj_mol"]
+    e = [_printed(study / f"fourpoint/{n}.out") for n in ("neutral_opt", "neutral_at_anion", "anion_opt",
+                                                          "anion_at_neutral")]
+    hartree_kj_mol = sc.physical_constants["Hartree energy"][0] * sc.N_A / 1000  # CODATA
+    # lambda_D + lambda_A with D = A is the four-point sum of the printed energies (Nelsen et al. 1987)
+    assert lam == pytest.approx(((e[1] - e[0]) + (e[3] - e[2])) * hartree_kj_mol, rel=1e-9)
+    # dE0 = [E(D') - E(D)] + [E(A') - E(A)] cancels exactly for one molecule on both sides
+    assert tr["driving_force"]["quoted"]["value_kj_mol"] == pytest.approx(0.0, abs=1e-9)
+    assert tr["driving_force"]["quantity"] == "electronic energy difference"
+
+
+def test_driving_force_from_two_states(tmp_path):
+    shutil.copytree(demo_path("pathway"), tmp_path / "pathway")
+    path = _write(tmp_path, '[states.a]\ngeometry = "pathway/min_a_opt.out"\n[states.b]\ngeometry = '
+                            '"pathway/min_b_opt.out"\n[[transfers]]\nname = "t"\ndriving_force = "states"\n'
+                            'initial_state = "a"\nfinal_state = "b"\n')
+    tr = analyse(load_project(path))["transfers"][0]
+    hartree_kj_mol = sc.physical_constants["Hartree energy"][0] * sc.N_A / 1000  # CODATA
+    by_hand = (_printed(tmp_path / "pathway/min_b_opt.out") - _printed(tmp_path / "pathway/min_a_opt.out")) \
+        * hartree_kj_mol  # the logs' own printed final energies
+    assert tr["driving_force"]["quoted"]["value_kj_mol"] == pytest.approx(by_hand, rel=1e-9, abs=1e-9)
+    assert tr["carrier"] == "electron" and "charge -1" in tr["carrier_reason"]  # radical anions, as printed

@@ -260,7 +260,8 @@ def _check_set(m, spec: TransferSpec, which: str, label: str, recs: dict[str, Ca
                             f"one (got {qr} and {qp})", where=where)
 
 
-def _carrier(m, spec: TransferSpec, sets: dict, couplings: list[CouplingSpec]) -> tuple[str | None, str]:
+def _carrier(m, spec: TransferSpec, sets: dict, couplings: list[CouplingSpec],
+             by_path: dict[Path, Calculation]) -> tuple[str | None, str]:
     """hole or electron from every charged file of the transfer; they must agree."""
     found: list[tuple[str, str]] = []
     for c in couplings:
@@ -272,6 +273,10 @@ def _carrier(m, spec: TransferSpec, sets: dict, couplings: list[CouplingSpec]) -
         if qr + qp:
             found.append((carrier_from_charge(qr + qp),
                           f"four-point set '{label}' pairs charges {qr:+d} and {qp:+d}"))
+    for name in (spec.initial_state, spec.final_state):
+        rec = by_path.get(m.states[name].geometry) if name is not None else None
+        if rec is not None and rec.charge:
+            found.append((carrier_from_charge(rec.charge), f"state '{name}' has charge {rec.charge:+d}"))
     if not found:
         return None, "no charged file names the carrier"
     carriers = sorted({c for c, _ in found})
@@ -337,7 +342,8 @@ def bind_transfer(m, spec: TransferSpec, by_path: dict[Path, Calculation]) -> Tr
             bound.record, bound.file_label = by_path[c.file], m.file_labels[c.file]
         _check_coupling(m, spec, bound)
         couplings.append(bound)
-    carrier, reason = _carrier(m, spec, {**donor, **{f'acceptor {k}': v for k, v in acceptor.items()}} if cross else donor, couplings)
+    sets = {**donor, **{f"acceptor {k}": v for k, v in acceptor.items()}} if cross else donor
+    carrier, reason = _carrier(m, spec, sets, couplings, by_path)
     if carrier is None and any(c.route == "orbital-splitting" for c in couplings):
         raise ManifestError(f"transfer '{spec.name}': the orbital-splitting route needs to know whether a hole or an "
                             "electron moves, and no charged file says so; add a four-point set or the dimer ion",
