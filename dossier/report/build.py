@@ -150,17 +150,22 @@ def _write_formats(data: dict, tmp: Path, formats: tuple[str, ...], *, manifest_
         written["states.xyz"] = exports.write_xyz(data, tmp / "states.xyz")
     if "tex" in formats:
         written["tables.tex"] = exports.write_latex(data, tmp / "tables.tex")
-    if "bib" in formats:
-        written["references.bib"] = exports.write_bibtex(data, tmp / "references.bib")
+    cited: list[str] = []  # bibliography keys in the order the report numbers them
     if {"html", "pdf"} & set(formats) or png:
         written.update(_write_pages(data, tmp, formats, templates_dir=templates_dir, png=png,
-                                    numbered_atoms=numbered_atoms, say=say, timings=timings))
+                                    numbered_atoms=numbered_atoms, say=say, timings=timings, cited=cited))
+    if "bib" in formats:
+        if not cited:  # no HTML rendered: number the works as the HTML would
+            from dossier.report import render
+
+            render.render_html(data, [], templates_dir=templates_dir, cited=cited)
+        written["references.bib"] = exports.write_bibtex(data, tmp / "references.bib", cited)
     return written
 
 
 def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_dir, png: bool, numbered_atoms: bool,
-                 say: Progress, timings: dict[str, float]) -> dict[str, Path]:
-    """Figures (PNG on request), the HTML page and the PDF."""
+                 say: Progress, timings: dict[str, float], cited: list[str] | None = None) -> dict[str, Path]:
+    """Figures (PNG on request), the HTML page and the PDF; ``cited`` receives the bibliography order."""
     from dossier.report import exports, figures, render
 
     written: dict[str, Path] = {}
@@ -174,7 +179,7 @@ def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_d
     if {"html", "pdf"} & set(formats):
         t0 = time.perf_counter()
         say("rendering HTML")
-        html_text = render.render_html(data, figs, templates_dir=templates_dir)
+        html_text = render.render_html(data, figs, templates_dir=templates_dir, cited=cited)
         if "html" in formats:
             written["dossier.html"] = exports.write_atomic(tmp / "dossier.html", html_text)
         timings["html"] = time.perf_counter() - t0

@@ -262,17 +262,23 @@ def works_cited(data: dict) -> list[dict]:
     return [{**w, **REFERENCES[w["key"]]} for w in data["report"]["cited_works"]]
 
 
-def bibtex_text(data: dict) -> str:
+def bibtex_text(data: dict, order: list[str] | None = None) -> str:
+    """BibTeX of the cited works; ``order`` (keys) is the numbering of the rendered report, so the
+    file lists the works in the order the HTML and PDF number them."""
+    works = works_cited(data)
+    if order:
+        rank = {k: i for i, k in enumerate(order)}
+        works = sorted(works, key=lambda w: rank.get(w["key"], len(rank)))
     chunks = []
-    for ref in works_cited(data):
+    for ref in works:
         fields = [(k, v) for k, v in ref.items() if k not in ("key", "type", "why")]
         body = ",\n".join(f"  {k} = {{{v}}}" for k, v in fields)
         chunks.append(f"@{ref['type']}{{{ref['key']},\n{body}\n}}\n")
     return "\n".join(chunks)
 
 
-def write_bibtex(data: dict, path: Path) -> Path:
-    return write_atomic(path, bibtex_text(data))
+def write_bibtex(data: dict, path: Path, order: list[str] | None = None) -> Path:
+    return write_atomic(path, bibtex_text(data, order))
 
 
 # -- LaTeX ---------------------------------------------------------------------------------

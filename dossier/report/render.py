@@ -31,6 +31,8 @@ from dossier import __version__, units
 from dossier.errors import BuildError
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
+from dossier.report.typeset import (MINUS, Citer, fmt_log10_interval, fmt_power, fmt_temperature, fmt_wavenumber,
+                                    typeset)
 
 
 def builtin_templates_dir() -> Path:
@@ -70,7 +72,9 @@ def fmt_num(x: Any, digits: int = 1) -> str:
     if isinstance(x, bool) or not isinstance(x, (int, float)):
         return str(x)
     text = f"{x:.{digits}f}"
-    return text[1:] if text.startswith("-") and float(text) == 0.0 else text  # no "-0.0"
+    if text.startswith("-"):
+        return text[1:] if float(text) == 0.0 else MINUS + text[1:]  # no "-0.0"; a real minus sign
+    return text
 
 
 def fmt_rate(x: Any) -> str:
@@ -97,7 +101,7 @@ def fmt_sha(text: str | None) -> str:
     return text or "–"
 
 
-_TEX_ACCENTS = {"\\`a": "à", "\\'e": "é", '\\"u': "ü", '\\"o': "ö", '\\"a': "ä", "\\o": "ø", "\\'a": "á"}
+_TEX_ACCENTS = {"\\`a": "à", "\\`e": "è", "\\'i": "í", "\\'e": "é", '\\"u': "ü", '\\"o': "ö", '\\"a': "ä", "\\o": "ø", "\\'a": "á"}
 
 
 def bib_plain(text: Any) -> str:
@@ -114,13 +118,25 @@ _UNIT_SUFFIXES = [("_kj_mol", "kJ mol⁻¹"), ("_kcal_mol", "kcal mol⁻¹"), ("
                   ("_hartree", "Eh")]
 
 
-def quantity_label(key: Any) -> str:
-    """'coupling_cm1' -> 'coupling / cm⁻¹' (the unit suffix convention of dossier.json)."""
+#: Symbols of the quantities dossier.json names in words (HTML).
+_SYMBOLS = {"nu_max": "ν̃<sub>max</sub>", "fwhm": "Δν̃<sub>1/2</sub> (full width at half height)",
+            "epsilon_max": "ε<sub>max</sub>", "distance": "r<sub>ab</sub> (site distance)", "temperature": "T",
+            "delta_g0": "ΔG°", "coupling": "H<sub>ab</sub>", "reorganization_energy": "λ",
+            "reorganization_energy_from_width": "λ from the band width",
+            "expected_class_ii_fwhm": "Δν̃<sub>1/2</sub> expected for class II", "width_ratio": "Δν̃<sub>1/2</sub> / class-II width",
+            "ratio_2hab_over_lambda": "2H<sub>ab</sub>/λ"}
+
+
+def quantity_label(key: Any) -> Markup:
+    """'coupling_cm1' -> 'H_ab / cm⁻¹' (the unit suffix convention of dossier.json), as HTML."""
     key = str(key)
-    for suffix, unit in _UNIT_SUFFIXES:
+    stem, unit = key, None
+    for suffix, u in _UNIT_SUFFIXES:
         if key.endswith(suffix):
-            return f"{key[: -len(suffix)].replace('_', ' ')} / {unit}"
-    return key.replace("_", " ")
+            stem, unit = key[: -len(suffix)], u
+            break
+    label = Markup(_SYMBOLS[stem]) if stem in _SYMBOLS else typeset(stem.replace("_", " "))
+    return label + Markup(f" / {unit}") if unit else label
 
 
 def formula_markup(text: Any) -> Markup:
@@ -159,11 +175,19 @@ def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
     loaders.append(jinja2.FileSystemLoader(str(TEMPLATES_DIR)))
     env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
                                keep_trailing_newline=True)
-    env.filters.update(num=fmt_num, rate=fmt_rate, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
+    env.filters.update(num=fmt_num, rate=fmt_rate, temp=fmt_temperature, wn=fmt_wavenumber, pow=fmt_power,
+                       log10k=fmt_log10_interval, tx=_typeset_filter, coord=fmt_coordinate, hartree=fmt_hartree, sha=fmt_sha,
                        sci=lambda x: "–" if x is None else f"{x:.2e}", bibplain=bib_plain, qlabel=quantity_label, formula=formula_markup,
                        scheme=lambda x: {"mulliken": "Mulliken", "lowdin": "Löwdin", "hirshfeld": "Hirshfeld",
                                          "mulliken_sum": "Mulliken (summed)"}.get(str(x), str(x)))
     return env
+
+
+@jinja2.pass_context
+def _typeset_filter(ctx, text: Any) -> Markup:
+    """ASCII math as HTML; inline literature becomes numbered citations of this render."""
+    citer = ctx.get("citer")
+    return typeset(text, cite=citer if isinstance(citer, Citer) else None)
 
 
 # -- view model: plain words and grouped tables computed here, not in templates ---------------
@@ -257,7 +281,7 @@ def methods_view(data: dict) -> dict:
         return list(seen.values())
 
     refs = works_cited(data)
-    number = {r["key"]: i + 1 for i, r in enumerate(refs)}
+    number = {r["key"]: True for r in refs}  # membership only; numbers come from the Citer in order of first citation
     return {
         "programs": [{"program": p, "version": v, "files": len(f)} for (p, v), f in sorted(programs.items())],
         "levels": lv,
@@ -267,15 +291,15 @@ def methods_view(data: dict) -> dict:
     }
 
 
-def cite(view: dict, *keys: str) -> str:
-    nums = sorted({view["ref_number"][k] for k in keys if k in view["ref_number"]})
-    return f"[{', '.join(str(n) for n in nums)}]" if nums else ""
+def cite(view: dict, *keys: str) -> Markup:
+    """Numbered citation of the works ``keys`` (numbers in order of first citation in this render)."""
+    return Markup(view["citer"](list(keys)))
 
 
-def cite_for(view: dict, kind: str, name: str) -> str:
-    from dossier.analysis.citations import keys_for
+def cite_for(view: dict, kind: str, name: str, version: str | None = None) -> Markup:
+    from dossier.analysis.citations import keys_for, program_keys
 
-    return cite(view, *keys_for(kind, name))
+    return cite(view, *(program_keys(name, version) if kind == "program" else keys_for(kind, name)))
 
 
 def profile_table(profile: dict, unit: str) -> dict:
@@ -325,6 +349,23 @@ def population_tables(data: dict) -> list[dict]:
                     "temperatures": [r["temperature_k"] for r in rows], "notes": notes,
                     "rows": [{"state": s, "cells": [(r.get("populations") or {}).get(s) for r in rows]} for s in states]})
     return out
+
+
+def group_checks(checks: list[dict]) -> list[dict]:
+    """One row per finding: the same code and message on several states or files is shown once,
+    with every state and file it concerns (order of first appearance kept)."""
+    rows: dict[tuple, dict] = {}
+    for c in checks:
+        key = (c.get("severity"), c.get("code"), c.get("message"))
+        row = rows.setdefault(key, {**c, "states": [], "files": []})
+        if c.get("state") and c["state"] not in row["states"]:
+            row["states"].append(c["state"])
+        if c.get("file") and c["file"] not in row["files"]:
+            row["files"].append(c["file"])
+    for row in rows.values():
+        row["state"] = ", ".join(row["states"]) or None
+        row["file"] = "; ".join(row["files"]) or None
+    return list(rows.values())
 
 
 def localization_rows(data: dict) -> list[dict]:
@@ -378,6 +419,8 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
     carrier = carrier_word(data)
     sections = [{"file": f, "id": i, "title": t.replace("the electron", f"the {carrier}")}
                 for f, i, t in SECTIONS if present[i]]
+    citer = Citer(works_cited(data))
+    methods = {**methods_view(data), "citer": citer}
     for n, s in enumerate(sections, 1):
         s["number"] = n
     return {
@@ -389,12 +432,12 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "num": Numberer(),
         "figures": figs_by_section, "figure_for": figs_by_subject,
         "svg": lambda f: Markup(f.svg),
-        "summary": summary_view(data), "methods": methods_view(data), "cite": cite, "cite_for": cite_for,
+        "summary": summary_view(data), "methods": methods, "cite": cite, "cite_for": cite_for, "citer": citer,
         "profile_table": lambda p: profile_table(p, unit),
         "energy": lambda v: _energy(v, unit),
         "loc_rows": localization_rows(data), "sites": sites_in(data), "population_tables": population_tables(data),
         "band_rows": band_rows,
-        "checks": sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or "")),
+        "checks": group_checks(sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or ""))),
         "n_errors": sum(1 for c in checks if c.get("severity") == "error"),
         "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),
         "states_by_name": _state_by_name(data),
@@ -403,11 +446,16 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
     }
 
 
-def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | None = None) -> str:
-    """The whole dossier as one self-contained HTML page (raises BuildError on outside references)."""
+def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | None = None,
+                cited: list[str] | None = None) -> str:
+    """The whole dossier as one self-contained HTML page (raises BuildError on outside references).
+    ``cited`` (a list) receives the bibliography keys in the order the page numbers them."""
     env = make_environment(templates_dir)
+    ctx = context(data, figures)
     try:
-        text = env.get_template("base.html").render(**context(data, figures))
+        text = env.get_template("base.html").render(**ctx)
+        if cited is not None:
+            cited[:] = [r["key"] for r in ctx["citer"].bibliography()]
     except jinja2.TemplateNotFound as exc:
         raise BuildError(f"template {exc.name!r} not found", where=str(templates_dir or TEMPLATES_DIR)) from exc
     except jinja2.TemplateSyntaxError as exc:
