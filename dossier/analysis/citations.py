@@ -329,6 +329,9 @@ def cited_works(data: dict) -> list[dict[str, Any]]:
             cite("two_state", "two-state model")
         if pw.get("robin_day_class") or pw.get("robin_day"):
             cite("robin_day", "Robin-Day classification")
+        if pw.get("landau_zener"):
+            cite("sutin1983", "effective nuclear frequency nu_n of the barrier crossing")
+            cite("newton_sutin1984", "Landau-Zener transmission coefficient kappa_LZ")
         for r in (pw.get("routes") or {}).get("reorganization_energy", []):
             if "four" in (r.get("route") or ""):
                 cite("nelsen", "four-point reorganization energy")

@@ -119,6 +119,10 @@ def _four_point_route(pw, missing: list[dict]) -> dict | None:
         "relaxation_reactant_kj_mol": _kj(vals["reactant_at_product"] - vals["reactant_at_reactant"]),
         "relaxation_product_kj_mol": _kj(vals["product_at_reactant"] - vals["product_at_product"]),
         "energies_hartree": vals, "note": pw.four_point_note,
+        "structures": {k: {"file": str((pw.four_point_files or {}).get(k) or "") or None, "elements": list(fp[k].elements),
+                           "charge": fp[k].charge, "multiplicity": fp[k].multiplicity,
+                           "coordinates_angstrom": [[float(x) for x in c] for c in fp[k].coordinates_angstrom]}
+                       for k in fp if fp[k].elements},
         "provenance": _prov(list((pw.four_point_files or {}).values()), [], "; ".join(levels),
                             "lambda = [E(R@P) - E(R@R)] + [E(P@R) - E(P@P)] "
                             "(Nelsen, Blackstock, Kim, JACS 1987, 109, 677)",

@@ -237,6 +237,12 @@ def xyz_text(data: dict) -> str:
             comment += f" ({level}: {st.get('level_of_theory') or 'level unknown'})"
         rows = [f"{el:<2s} {x:14.8f} {y:14.8f} {z:14.8f}" for el, (x, y, z) in zip(st["elements"], st["coordinates_angstrom"])]
         frames.append([str(len(rows)), comment, *rows])
+    for name, job, frag in fragment_structures(data):
+        e = job.get("energy_hartree")
+        comment = (f"{name} E={e:.8f} Eh (four-point fragment, {job.get('file') or 'file unknown'})" if e is not None
+                   else f"{name} E=unknown (four-point fragment)")
+        rows = [f"{el:<2s} {x:14.8f} {y:14.8f} {z:14.8f}" for el, (x, y, z) in zip(frag["elements"], frag["coordinates_angstrom"])]
+        frames.append([str(len(rows)), comment, *rows])
     if left_out:
         note = "left out: " + ", ".join(left_out)
         if frames:
@@ -245,6 +251,22 @@ def xyz_text(data: dict) -> str:
             frames.append(["0", note])
     lines = [line.replace("\n", " ").replace("\r", " ") for frame in frames for line in frame]
     return "\n".join(lines) + ("\n" if lines else "")
+
+
+def fragment_structures(data: dict) -> list[tuple[str, dict, dict]]:
+    """(name, {file, energy_hartree}, structure) of every four-point fragment job with a geometry:
+    name '<pathway>_fourpoint_<job>' (job: reactant_at_reactant, ...)."""
+    out = []
+    for pw in data.get("pathways", []):
+        for r in (pw.get("routes") or {}).get("reorganization_energy", []):
+            for job, frag in (r.get("structures") or {}).items():
+                if not frag.get("elements"):
+                    continue
+                name = re.sub(r"\s+", "_", f"{pw['name']}_fourpoint_{job}")
+                out.append((name, {"file": frag.get("file"),
+                                   "energy_hartree": (r.get("energies_hartree") or {}).get(job)}, frag))
+    return out
+
 
 
 def write_xyz(data: dict, path: Path) -> Path:

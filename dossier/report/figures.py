@@ -130,7 +130,9 @@ MIN_PROFILE_SPAN_KJ_MOL = 2.0
 
 def _fixed(value: float, digits: int) -> str:
     text = f"{value:.{digits}f}"
-    return text[1:] if text.startswith("-") and float(text) == 0.0 else text
+    if text.startswith("-"):
+        return text[1:] if float(text) == 0.0 else "\u2212" + text[1:]  # a real minus sign, no "-0.0"
+    return text
 
 
 def _t(text) -> str:
@@ -529,7 +531,7 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
                 f"Diabatic parabolas (dashed, dotted) drawn from the reorganization energy "
                 f"({units.kj_mol_to(pw['reorganization_energy_kj_mol'], unit):.1f} {unit}) and driving force, and the adiabatic "
                 "surfaces (solid, dash-dot) from the electronic coupling"
-                + (f" ({pw['coupling_cm1']:.0f} cm-1)" if pw.get("coupling_cm1") is not None else " (not available)")
+                + (f" ({pw['coupling_cm1']:.0f} cm⁻¹)" if pw.get("coupling_cm1") is not None else " (not available)")
                 + "; two-state model.", {"pathway": pw["name"]})
     scheme = data["report"]["population_scheme"]
     if scheme:
@@ -539,7 +541,7 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
     if any(x.get("energy_cm1") for s in data.get("states", []) for x in s.get("excited_states") or []):
         add(spectrum_figure(data["states"]), "spectrum-0", "excited", "Computed excitation spectra",
             f"Computed vertical excitations (sticks, oscillator strength f) and a Gaussian broadening with a "
-            f"FWHM of {SPECTRUM_FWHM_CM1:.0f} cm-1 (dashed, scaled to the strongest stick); wavelength on the top axis.", {})
+            f"FWHM of {SPECTRUM_FWHM_CM1:.0f} cm⁻¹ (dashed, scaled to the strongest stick); wavelength on the top axis.", {})
     for n, pw in enumerate(data.get("pathways", [])):
         if pw.get("rates"):
             add(rates_figure(pw), f"rates-{n}", "rates", f"Rates of pathway {pw['name']} against temperature",

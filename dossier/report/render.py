@@ -31,6 +31,7 @@ from dossier import __version__, units
 from dossier.errors import BuildError
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
+from dossier.report import trace
 from dossier.report.typeset import (MINUS, Citer, fmt_log10_interval, fmt_power, fmt_temperature, fmt_wavenumber,
                                     typeset)
 
@@ -443,6 +444,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "states_by_name": _state_by_name(data),
         "state_energy": state_energy_hartree,
         "dossier_version": __version__, "carrier_word": carrier,
+        "site_table": trace.site_rows(data), "recipes": trace.recipe_rows(data), "fragments": trace.fragments(data),
     }
 
 

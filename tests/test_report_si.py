@@ -1,0 +1,73 @@
+"""The supporting information as a referee and a collaborator read it (issue 15), on the demo study.
+
+The demo is built once (slow); the checks read the rendered HTML, the PDF text (pypdf, from PyPI)
+and references.bib back, so they test what a reader gets, not the view model.
+"""
+from __future__ import annotations
+
+import re
+import unicodedata
+
+import pytest
+
+from dossier.report.typeset import fmt_temperature, fmt_wavenumber, typeset
+from tests.conftest import demo_path
+
+# ASCII stand-ins for math that must not survive into the PDF (issue 15's list).
+ASCII_MATH = ["lambda", "dE0", "dG0", "10^(", "10^", "s-1", "cm-1", "H_ab", "nu max", "nu_max", "kappa", "2hab over",
+              "dG_act", "dE_act", " x 10"]
+
+
+@pytest.fixture(scope="module")
+def demo_build(tmp_path_factory):
+    from dossier.report.build import build_dossier
+
+    manifest = demo_path("dossier.toml")
+    out = tmp_path_factory.mktemp("si") / "out"
+    build_dossier(manifest, out)
+    return out
+
+
+def _bib_keys(text: str) -> list[str]:
+    return re.findall(r"^@\w+\{([^,]+),", text, re.M)
+
+
+@pytest.mark.slow
+def test_bibliography_in_html_equals_references_bib_in_order(demo_build):
+    html = (demo_build / "dossier.html").read_text(encoding="utf-8")
+    listed = re.findall(r'<li id="ref-([^"]+)"', html)
+    assert listed == _bib_keys((demo_build / "references.bib").read_text(encoding="utf-8"))
+    # numbered in order of first citation: the first citation link of each work appears in list order
+    first = []
+    for key in re.findall(r'<a class="cite" href="#ref-([^"]+)"', html):
+        if key not in first:
+            first.append(key)
+    assert first == listed[: len(first)]
+    # works the demo's formulas and reasons cite inline are in the list (their texts in dossier.json)
+    for key in ("newton_sutin1984", "huang_rhys", "reimers2001", "cave_newton", "creutz1994", "nelsen"):
+        assert key in listed
+
+
+@pytest.mark.slow
+def test_pdf_text_holds_no_ascii_math(demo_build):
+    pypdf = pytest.importorskip("pypdf")
+    text = "\n".join(p.extract_text() or "" for p in pypdf.PdfReader(str(demo_build / "dossier.pdf")).pages)
+    found = {tok: text.count(tok) for tok in ASCII_MATH if tok in text}
+    assert not found, found
+    # negative numbers carry the minus sign U+2212 (named by the Unicode database), not a hyphen
+    assert unicodedata.name("\u2212") == "MINUS SIGN"
+    assert not re.search(r"(?<![\w/.-])-\d", text), re.findall(r".{20}(?<![\w/.-])-\d.{10}", text)[:5]
+
+
+def test_typeset_known_tokens():
+    html = typeset("k(233 K) = 10^(13.2 +2.2/-2.3) s-1; lambda = E_op - dE0; 2H_ab/lambda; min_a on 6-31G, mp2//dft")
+    assert "10<sup>13.2 +2.2/\u22122.3</sup> s⁻¹" in html
+    assert "λ = E<sub>op</sub> \u2212 ΔE<sub>0</sub>" in html
+    assert "2H<sub>ab</sub>/λ" in html
+    assert "min_a on 6-31G, mp2//dft" in html  # names, basis sets and recipes untouched
+    assert "&lt;b&gt;" in typeset("<b>")  # escaped first
+
+
+def test_temperatures_as_given_and_imaginary_modes():
+    assert fmt_temperature(298.15) == "298.15" and fmt_temperature(300.0) == "300" and fmt_temperature(298.1) == "298.1"
+    assert fmt_wavenumber(-778.349) == "778i" and fmt_wavenumber(1066.3) == "1066"
