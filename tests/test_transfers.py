@@ -267,3 +267,15 @@ def test_driving_force_from_two_states(tmp_path):
         * hartree_kj_mol  # the logs' own printed final energies
     assert tr["driving_force"]["quoted"]["value_kj_mol"] == pytest.approx(by_hand, rel=1e-9, abs=1e-9)
     assert tr["carrier"] == "electron" and "charge -1" in tr["carrier_reason"]  # radical anions, as printed
+
+
+def test_pathway_table_names_electronic_energies_as_such(tmp_path):
+    shutil.copytree(demo_path("pathway"), tmp_path / "pathway")
+    path = _write(tmp_path, "".join(f'[states.{s}]\ngeometry = "pathway/{s}_opt.out"\n' for s in ("min_a", "ts", "min_b"))
+                  + '[recipes.e]\nthermal = "none"\n[[pathways]]\nname = "p"\nreactant = "min_a"\n'
+                    'transition_state = "ts"\nproduct = "min_b"\n')
+    data = analyse(load_project(path))
+    html_text = render_html(data, [])
+    section = html_text[html_text.index('id="marcus"'):html_text.index("</section>", html_text.index('id="marcus"'))]
+    # electronic energies only (thermal = "none"): the table says dE, never dG (issue 13)
+    assert "Driving force ΔE°" in section and "Barrier ΔE‡" in section and "ΔG" not in section
