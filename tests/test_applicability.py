@@ -153,3 +153,23 @@ def test_rates_csv_has_the_verdict_and_the_json_note():
     rows = [dict(zip(header, r)) for r in rows_of({"pathways": [pw]})]
     assert [(r["validity"], r["validity_note"]) for r in rows] == [("not valid", "marcus fails"),
                                                                   ("valid", "eyring-tst holds")]
+
+
+def test_robin_day_borderline_when_zero_point_energy_removes_the_double_well():
+    """Brunschwig, Creutz, Sutin, Chem. Soc. Rev. 2002, 31, 168 (from memory): class II when 2 H_ab < lambda (two
+    minima), class III when 2 H_ab >= lambda (one minimum); a shallow double well whose barrier zero-point energy
+    removes sits on the class II/III borderline."""
+    hk = 1 / KJ_MOL_PER_CM1  # 1 kJ/mol in cm-1
+    both = {"electronic": (1.5, 1.5), "electronic+zpe": (-3.7, -3.7), "gibbs": (-1.7, -1.7)}
+    rd = ap.robin_day_assessment(36 * hk, 100.0, True, both)  # 2H_ab/lambda = 0.72
+    assert rd["class"] == "II/III"
+    assert rd["double_well_by_surface"] == {"E": True, "E+ZPE": False, "G": False}
+    assert "class II from 2H_ab/lambda = 0.72 < 1" in rd["reason"] and "no double well on E+ZPE" in rd["reason"]
+    deep = {k: (20.0, 20.0) for k in both}
+    assert ap.robin_day_assessment(10 * hk, 100.0, True, deep)["class"] == "II"
+    assert ap.robin_day_assessment(0.1 * hk, 100.0, True, deep)["class"] == "I"
+    none = {k: (-5.0, -5.0) for k in both}
+    assert ap.robin_day_assessment(60 * hk, 100.0, True, none)["class"] == "III"
+    assert ap.robin_day_assessment(60 * hk, 100.0, True, deep)["class"] == "II/III"  # ratio 1.2 vs a deep well
+    # reverse barrier: the saddle must lie above both minima
+    assert ap.double_well_on(5.0, -1.0) is False and ap.double_well_on(None, 1.0) is None

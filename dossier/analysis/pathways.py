@@ -36,6 +36,16 @@ def _normal_mode_evidence(ctx, pw) -> dict | None:
 
 
 
+def _surface_barriers(db: dict) -> dict:
+    """Surface -> (forward, reverse) barrier at the reference temperature, from one recipe's routes."""
+    out = {}
+    for kind in applicability.SURFACE_LABELS:
+        fwd = _pick(db["barrier"], f"ts-{kind}")
+        dg0 = _pick(db["driving_force"], kind)
+        out[kind] = None if fwd is None or dg0 is None else (fwd["value_kj_mol"], fwd["value_kj_mol"] - dg0["value_kj_mol"])
+    return out
+
+
 def _pathway_entry(ctx, pw) -> dict:
     p = ctx.project
     temps = ctx.rate_temperatures(pw.name)
@@ -60,8 +70,8 @@ def _pathway_entry(ctx, pw) -> dict:
     hab = _choose(hab_routes, COUPLING_PREFERENCE)
     missing += lam_missing + hab_missing
 
-    double_well = _double_well(ctx, pw)
-    rd = marcus.robin_day_class(hab["value_cm1"] if hab else None, lam["value_kj_mol"] if lam else None, double_well)
+    rd = applicability.robin_day_assessment(hab["value_cm1"] if hab else None, lam["value_kj_mol"] if lam else None,
+                                            _double_well(ctx, pw), _surface_barriers(db_bar))
     mlj, mlj_reason = _mlj_parameters(lam, lam_routes, modes, u.rt_kj_mol(ctx.t_ref))
     nu_n = modes["nuclear_frequency_cm1"] if modes else None
     levels = {k: pw.levels.get(k, pw.recipe) for k in ("driving_force", "barrier", "reorganization_energy", "coupling")}

@@ -150,3 +150,67 @@ def adiabatic_verdict(coupling_cm1: float, reorganization_energy_kj_mol: float, 
     crit.append(_barrier_criterion(g, temperature_k, "the model barrier"))
     return _verdict(crit, "two-state adiabatic model: a double well that survives zero-point energy and a barrier "
                           "well above RT")
+
+
+# ---------------------------------------------------------------------------
+# Robin–Day class from every indicator: 2 H_ab / lambda and the double well on E, E+ZPE and G
+# ---------------------------------------------------------------------------
+SURFACE_LABELS = {"electronic": "E", "electronic+zpe": "E+ZPE", "gibbs": "G"}
+
+
+def double_well_on(forward_kj_mol: float | None, reverse_kj_mol: float | None) -> bool | None:
+    """A double well on one surface: the saddle lies above both minima (forward and reverse barriers > 0)."""
+    if forward_kj_mol is None or reverse_kj_mol is None:
+        return None
+    return bool(forward_kj_mol > 0.0 and reverse_kj_mol > 0.0)
+
+
+def robin_day_assessment(coupling_cm1: float | None, reorganization_energy_kj_mol: float | None,
+                         structural: bool | None, barriers: dict[str, tuple[float, float] | None]) -> dict:
+    """Robin–Day class from 2 H_ab / lambda and from the double well on each computed surface.
+
+    Class II: localized, a double well (2 H_ab < lambda); class III: one delocalized minimum (2 H_ab >= lambda);
+    class I: negligible coupling (2 H_ab / lambda < marcus.CLASS_I_RATIO, common practice, no source).
+    Sources: M. B. Robin, P. Day, Adv. Inorg. Chem. Radiochem. 1967, 10, 247; B. S. Brunschwig, C. Creutz,
+    N. Sutin, Chem. Soc. Rev. 2002, 31, 168 (2H_ab/lambda criterion; zero-point energy can remove a shallow
+    double well, class II/III borderline). ``structural``: two distinct minima and a saddle with one
+    imaginary mode (None: not testable). ``barriers``: surface ("electronic", "electronic+zpe", "gibbs") ->
+    (forward, reverse) barrier in kJ/mol, or None. Where the indicators disagree the class is "II/III"
+    and the reason lists what each says.
+    """
+    ratio = None
+    if coupling_cm1 is not None and reorganization_energy_kj_mol and reorganization_energy_kj_mol > 0:
+        ratio = 2.0 * float(coupling_cm1) * u.CM1_KJ_MOL / float(reorganization_energy_kj_mol)
+    wells: dict[str, bool | None] = {}
+    for kind in SURFACE_LABELS:
+        b = barriers.get(kind)
+        wells[kind] = False if structural is False else (double_well_on(*b) if b else None)
+    says: list[tuple[str, str]] = []  # (class, why)
+    if ratio is not None and math.isfinite(ratio):
+        cls = "III" if ratio >= MAX_COUPLING_RATIO else ("I" if ratio < marcus.CLASS_I_RATIO else "II")
+        says.append((cls, f"2H_ab/lambda = {ratio:.3g} {'>=' if ratio >= MAX_COUPLING_RATIO else '<'} 1"))
+    for kind, well in wells.items():
+        if well is None:
+            continue
+        fwd, rev = barriers[kind] if barriers.get(kind) else (None, None)
+        detail = f" (barrier {fwd:.1f} kJ/mol)" if fwd is not None else ""
+        says.append(("II" if well else "III",
+                     f"{'a' if well else 'no'} double well on {SURFACE_LABELS[kind]}{detail}"))
+    if structural is False and not says:
+        says.append(("III", "no distinct minima and transition state"))
+    classes = {c if c != "I" else "II" for c, _ in says}
+    if not says:
+        cls, reason = None, "neither a coupling/reorganization pair nor a double-well test is available"
+    elif len(classes) == 1:
+        cls = "I" if any(c == "I" for c, _ in says) else classes.pop()  # class I: a double well, weak coupling
+        reason = "; ".join(w for _, w in says)
+    else:
+        cls = "II/III"
+        ii = [w for c, w in says if c in ("I", "II")]
+        iii = [w for c, w in says if c == "III"]
+        reason = ("the indicators disagree: class II from " + ", ".join(ii) + "; class III from " + ", ".join(iii)
+                  + " (a shallow double well that zero-point or thermal energy removes is the class II/III borderline)")
+    return {"class": cls, "ratio_2hab_over_lambda": ratio, "double_well": wells.get("electronic"),
+            "double_well_by_surface": {SURFACE_LABELS[k]: v for k, v in wells.items()},
+            "structural_double_well": structural, "indicators": [{"class": c, "why": w} for c, w in says],
+            "reason": reason}
