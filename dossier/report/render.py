@@ -27,6 +27,7 @@ import jinja2
 from jinja2.sandbox import SandboxedEnvironment
 from markupsafe import Markup
 
+from dossier.science.localization import DELOCALIZED_INDEX
 from dossier import __version__, units
 from dossier.errors import BuildError
 from dossier.report.exports import state_energy_hartree, works_cited
@@ -429,6 +430,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "t_ref": report_temperature(data),
         # RT ln 10: the barrier change that changes a TST rate tenfold, at the report temperature
         "decade_kj_mol": units.rt_kj_mol(report_temperature(data) or 298.15) * math.log(10.0),
+        "delocalized_index": DELOCALIZED_INDEX,
         "sections": sections, "section_number": {s["id"]: s["number"] for s in sections},
         "num": Numberer(),
         "figures": figs_by_section, "figure_for": figs_by_subject,
