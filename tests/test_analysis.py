@@ -165,7 +165,8 @@ def test_rates_against_independent_codata_formulas(synthetic):
     for r in synthetic["pathways"][0]["rates"]:
         p, t = r["parameters"], r["temperature_k"]
         if r["model"] == "eyring-tst":
-            k = C.k * t / C.h * math.exp(-p["barrier_kj_mol"] * 1000 / (C.R * t))
+            # times the reaction-path factor of a symmetric saddle (dossier.science.degenerate)
+            k = p["reaction_path_degeneracy"] * C.k * t / C.h * math.exp(-p["barrier_kj_mol"] * 1000 / (C.R * t))
             assert r["rate_per_s"] == pytest.approx(k, rel=1e-10)
         if r["model"] == "marcus":
             h = p["coupling_cm1"] * C.h * C.c * 100
@@ -346,3 +347,19 @@ def test_experiment_hook_compares_at_the_measured_temperature():
     for model, c in comp.items():
         assert c["computed_rate_per_s"] == pytest.approx(at300[model]["rate_per_s"], rel=1e-12)
         assert c["log10_ratio"] == pytest.approx(math.log10(at300[model]["rate_per_s"] / 2e7), rel=1e-9)
+
+
+def test_symmetric_transfer_has_zero_driving_force_without_uncertainty(synthetic):
+    """The synthetic reactant and product are mirror images (dinitro_geometry) with equal energies: dG0 = 0 exactly
+    (by symmetry, not by subtraction) and no rate samples it; the C2v saddle doubles the TST hop rate
+    (dossier.science.degenerate; sigma_TS = 2 for C2v, McQuarrie's table, from memory)."""
+    pw = synthetic["pathways"][0]
+    sym = pw["symmetric_transfer"]
+    assert sym["images"] and sym["ts_symmetric"] and (sym["sigma_reactant"], sym["sigma_ts"]) == (1, 2)
+    assert pw["delta_g0_kj_mol"] == 0.0 and pw["delta_g0_route"] == "symmetry"
+    for r in _all_rates(synthetic):
+        if "delta_g0_kj_mol" in r["parameters"]:
+            assert r["parameters"]["delta_g0_kj_mol"] == 0.0
+            assert "delta_g0_kj_mol" not in (r.get("uncertainty") or {}).get("inputs", {})
+        if r["model"] == "eyring-tst":
+            assert r["parameters"]["reaction_path_degeneracy"] == 2.0

@@ -10,6 +10,7 @@ from dossier.science import applicability, marcus
 from dossier.science.couplings import carrier_from_charge
 from dossier.analysis.common import COUPLING_PREFERENCE, LAMBDA_PREFERENCE, MODEL_MARCUS, MODEL_MLJ, _Unavailable, _choose, _pick, _rate_ratio, _value_at
 from dossier.analysis.rates import _RateInputs, _arrhenius, _mlj_parameters, _rates
+from dossier.analysis.symmetric import symmetric_transfer, zero_driving
 from dossier.analysis.routes import _chosen_energy_route, _coupling_routes, _double_well, _driving_and_barrier, _lambda_routes, _mode_analysis
 
 
@@ -22,7 +23,9 @@ def _normal_mode_evidence(ctx, pw) -> dict | None:
     bridge = p.sites.get(pw.bridge_site) if pw.bridge_site else ctx.bridge_atoms
     out: dict[str, Any] = {}
     if ts.frequencies is not None:
-        sh = loc.imaginary_mode_shares(ts.frequencies, sites, bridge)
+        from dossier.science import thermo as th
+
+        sh = loc.imaginary_mode_shares(ts.frequencies, sites, bridge, masses_amu=th.atomic_masses_amu(ts.frequencies.elements))
         if sh is not None:
             out.update(sh)
             out["file"] = p.label(ts.frequencies)
@@ -55,7 +58,10 @@ def _pathway_entry(ctx, pw) -> dict:
     driving_routes = db_df["driving_force"]
     barrier_routes = db_bar["barrier"]
     missing = db_df["unavailable"] + ([u_ for u_ in db_bar["unavailable"] if u_ not in db_df["unavailable"]])
-    driving = _chosen_energy_route(driving_routes, p.recipes[df_recipe].thermal == "frequencies", False)
+    sym = ctx._sym = symmetric_transfer(ctx, pw)
+    hop = sym["hop_factor"] if sym else 1.0
+    driving = zero_driving(_chosen_energy_route(driving_routes, p.recipes[df_recipe].thermal == "frequencies", False),
+                           temps, ctx.t_ref, sym)
     barrier = _chosen_energy_route(barrier_routes, p.recipes[bar_recipe].thermal == "frequencies", True)
 
     try:
@@ -76,7 +82,7 @@ def _pathway_entry(ctx, pw) -> dict:
     nu_n = modes["nuclear_frequency_cm1"] if modes else None
     levels = {k: pw.levels.get(k, pw.recipe) for k in ("driving_force", "barrier", "reorganization_energy", "coupling")}
     inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
-                      zpe_barrier=_pick(barrier_routes, "ts-electronic+zpe"))
+                      zpe_barrier=_pick(barrier_routes, "ts-electronic+zpe"), hop_factor=hop)
     rates, rate_missing = _rates(ctx, pw, inp, temps, annotate=True)
     if mlj_reason:
         rate_missing = [m for m in rate_missing if m["model"] != MODEL_MLJ] + [{"model": MODEL_MLJ, "reason": mlj_reason}]
@@ -84,10 +90,11 @@ def _pathway_entry(ctx, pw) -> dict:
     def inputs_at(ts_: list[float]) -> _RateInputs:
         d = _driving_and_barrier(ctx, pw, df_recipe, ts_)
         b = d if bar_recipe == df_recipe else _driving_and_barrier(ctx, pw, bar_recipe, ts_)
-        return _RateInputs(driving=_chosen_energy_route(d["driving_force"], p.recipes[df_recipe].thermal == "frequencies", False),
+        dr = _chosen_energy_route(d["driving_force"], p.recipes[df_recipe].thermal == "frequencies", False)
+        return _RateInputs(driving=zero_driving(dr, ts_, ctx.t_ref, sym),
                            barrier=_chosen_energy_route(b["barrier"], p.recipes[bar_recipe].thermal == "frequencies", True),
                            lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
-                           zpe_barrier=_pick(b["barrier"], "ts-electronic+zpe"))
+                           zpe_barrier=_pick(b["barrier"], "ts-electronic+zpe"), hop_factor=hop)
 
     lz = _landau_zener_series(hab, lam, nu_n, temps)
 
@@ -113,6 +120,7 @@ def _pathway_entry(ctx, pw) -> dict:
                    "barrier": barrier_routes, "unavailable": missing},
         "route_preference": {"reorganization_energy": list(LAMBDA_PREFERENCE), "coupling": list(COUPLING_PREFERENCE)},
         "robin_day": rd,
+        "symmetric_transfer": sym,
         "normal_mode": _normal_mode_evidence(ctx, pw),
         "mode_analysis": modes,
         "mlj_parameters": mlj,
@@ -151,7 +159,7 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
                             "driving_force_kj_mol": None, "barrier_kj_mol": None, "rates": [], "notes": []}
     thermal = p.recipes[recipe].thermal == "frequencies"
     d = _driving_and_barrier(ctx, pw, recipe, temps)
-    driving = _chosen_energy_route(d["driving_force"], thermal, False)
+    driving = zero_driving(_chosen_energy_route(d["driving_force"], thermal, False), temps, ctx.t_ref, ctx._sym)
     barrier = _chosen_energy_route(d["barrier"], thermal, True)
     rung["notes"] += [x["reason"] for x in d["unavailable"]]
     if barrier is not None and barrier["value_kj_mol"] < 0:
@@ -167,7 +175,8 @@ def _ladder_rung(ctx, pw, recipe, temps, lam, hab, mlj, nu_n, lam_routes, hab_ro
               "reorganization_energy": pw.levels.get("reorganization_energy", pw.recipe),
               "coupling": pw.levels.get("coupling", pw.recipe)}
     inp = _RateInputs(driving=driving, barrier=barrier, lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
-                      zpe_barrier=_pick(d["barrier"], "ts-electronic+zpe"))
+                      zpe_barrier=_pick(d["barrier"], "ts-electronic+zpe"),
+                      hop_factor=ctx._sym["hop_factor"] if ctx._sym else 1.0)
     rates, missing = _rates(ctx, pw, inp, temps, annotate=True)
     rung["rates"] = [{k: v for k, v in r.items() if k not in ("formula", "provenance")} for r in rates]
     rung["notes"] += [f"{m['model']}: {m['reason']}" for m in missing]

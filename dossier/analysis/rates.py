@@ -12,10 +12,10 @@ class _RateInputs:
     """Everything a pathway's rate models need at one recipe combination. ``zpe_barrier`` is the
     electronic+ZPE barrier route at the barrier's recipe (None without frequency jobs)."""
 
-    def __init__(self, *, driving, barrier, lam, hab, mlj, nu_n_cm1, levels, zpe_barrier=None):
+    def __init__(self, *, driving, barrier, lam, hab, mlj, nu_n_cm1, levels, zpe_barrier=None, hop_factor=1.0):
         self.driving, self.barrier, self.lam, self.hab = driving, barrier, lam, hab
         self.mlj, self.nu_n_cm1, self.levels = mlj, nu_n_cm1, levels
-        self.zpe_barrier = zpe_barrier
+        self.zpe_barrier, self.hop_factor = zpe_barrier, hop_factor
 
 
 def _lz(inp: _RateInputs, t: float) -> float | None:
@@ -28,7 +28,8 @@ def _eyring_entry(t: float, inp: _RateInputs) -> dict:
     if inp.barrier is None:
         raise _Unavailable("no transition-state barrier")
     g = _value_at(inp.barrier, t)
-    params = {"barrier_kj_mol": g, "temperature_k": t, "transmission_coefficient": 1.0}
+    params = {"barrier_kj_mol": g, "temperature_k": t, "transmission_coefficient": 1.0,
+              "reaction_path_degeneracy": inp.hop_factor}
     k = marcus.eyring_rate_per_s(**params)
     thermal = inp.barrier["route"] != "ts-electronic"
     validity = applicability.tst_verdict(g, t, thermal=thermal, landau_zener_parameter=_lz(inp, t))
@@ -129,10 +130,12 @@ def _annotate(ctx, model: str, params: dict, inp: _RateInputs) -> dict:
     routes = {"reorganization_energy_kj_mol": inp.lam["route"] if inp.lam else None,
               "solvent_reorganization_kj_mol": inp.lam["route"] if inp.lam else None,
               "coupling_cm1": inp.hab["route"] if inp.hab else None}
+    exact = {"delta_g0_kj_mol"} if inp.driving is not None and inp.driving["route"] == "symmetry" else set()
     labels = {rc: ctx.level_labels.get(rc) for rc in levels.values() if rc}
     try:
         return ctx.uncertainty.annotate_rate(FUNCTIONS[model], params, levels={k: v for k, v in levels.items() if v},
-                                             routes={k: v for k, v in routes.items() if v}, level_labels=labels)
+                                             routes={k: v for k, v in routes.items() if v}, level_labels=labels,
+                                             exact=exact)
     except ValueError as exc:
         return {"uncertainty_note": f"no interval: {exc}"}
 

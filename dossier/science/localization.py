@@ -311,10 +311,27 @@ def state_localization(calc: Calculation, sites: Mapping[str, Sequence[int]], re
 # ---------------------------------------------------------------------------
 # Transition-state normal mode and proton shifts
 # ---------------------------------------------------------------------------
+def _group_shares(per_atom: np.ndarray, elements, sites: Mapping[str, Sequence[int]],
+                  bridge_atoms: Sequence[int] | None) -> dict:
+    per_atom = per_atom / float(per_atom.sum())
+    shares = {name: float(per_atom[list(atoms)].sum()) for name, atoms in sites.items()}
+    if bridge_atoms is not None and "bridge" not in shares:
+        shares["bridge"] = float(per_atom[list(bridge_atoms)].sum())
+    hydrogens = [i for i, e in enumerate(elements) if e.capitalize() in HYDROGENS]
+    in_sites = {i for v in sites.values() for i in v} | set(bridge_atoms or [])
+    return {"share_by_site": shares, "hydrogen_share": float(per_atom[hydrogens].sum()) if hydrogens else 0.0,
+            "share_elsewhere": float(sum(per_atom[i] for i in range(len(per_atom)) if i not in in_sites))}
+
+
 def imaginary_mode_shares(calc: Calculation, sites: Mapping[str, Sequence[int]],
-                          bridge_atoms: Sequence[int] | None = None) -> dict | None:
+                          bridge_atoms: Sequence[int] | None = None,
+                          masses_amu: Sequence[float] | None = None) -> dict | None:
     """Share of the imaginary mode's squared Cartesian displacement (as printed) per site,
     on the bridge, on all hydrogens, and elsewhere. None without an imaginary mode with displacements.
+    With ``masses_amu`` also the mass-weighted shares m_i |d_i|^2 / sum_j m_j |d_j|^2 (key
+    ``mass_weighted``): the share of the mode's kinetic energy each group carries, which does not
+    depend on how a program normalizes its printed vectors (the mass-weighted normal coordinate
+    l = M^1/2 d, E. B. Wilson, J. C. Decius, P. C. Cross, Molecular Vibrations, 1955; from memory).
     (Analysis of a normal-mode vector by atom groups; common practice, no source.)"""
     vib = calc.vibrations
     if vib is None or not vib.displacements or vib.n_imaginary == 0:
@@ -326,22 +343,20 @@ def imaginary_mode_shares(calc: Calculation, sites: Mapping[str, Sequence[int]],
     if d.shape != (calc.n_atoms, 3):
         return None
     per_atom = (d**2).sum(axis=1)
-    total = float(per_atom.sum())
-    if total == 0:
+    if float(per_atom.sum()) == 0:
         return None
-    per_atom = per_atom / total
     n = calc.n_atoms
     sites = {k: v for k, v in sites.items() if all(0 <= i < n for i in v)}
     if bridge_atoms is not None and any(not 0 <= i < n for i in bridge_atoms):
         bridge_atoms = None
-    shares = {name: float(per_atom[list(atoms)].sum()) for name, atoms in sites.items()}
-    if bridge_atoms is not None and "bridge" not in shares:
-        shares["bridge"] = float(per_atom[list(bridge_atoms)].sum())
-    hydrogens = [i for i, e in enumerate(calc.elements) if e.capitalize() in HYDROGENS]
-    in_sites = {i for v in sites.values() for i in v} | set(bridge_atoms or [])
-    return {"imaginary_cm1": float(vib.wavenumbers_cm1[k]), "share_by_site": shares,
-            "hydrogen_share": float(per_atom[hydrogens].sum()) if hydrogens else 0.0,
-            "share_elsewhere": float(sum(per_atom[i] for i in range(calc.n_atoms) if i not in in_sites))}
+    out = {"imaginary_cm1": float(vib.wavenumbers_cm1[k]),
+           "share_basis": "squared Cartesian displacement as printed",
+           **_group_shares(per_atom, calc.elements, sites, bridge_atoms)}
+    if masses_amu is not None and len(masses_amu) == n:
+        out["mass_weighted"] = {"share_basis": "mass-weighted: m_i |d_i|^2 / sum_j m_j |d_j|^2",
+                                **_group_shares(per_atom * np.asarray(masses_amu, dtype=float), calc.elements, sites,
+                                                bridge_atoms)}
+    return out
 
 
 def mode_overlap_with_path(ts: Calculation, reactant: Calculation, product: Calculation) -> float | None:

@@ -56,15 +56,16 @@ def adiabatic_barrier_kj_mol(reorganization_energy_kj_mol, delta_g0_kj_mol, coup
 # ---------------------------------------------------------------------------
 # Rates
 # ---------------------------------------------------------------------------
-def eyring_rate_per_s(barrier_kj_mol, temperature_k, transmission_coefficient=1.0):
-    """Transition-state theory rate, s-1: k = kappa (k_B T / h) exp(-dG_act / RT).
+def eyring_rate_per_s(barrier_kj_mol, temperature_k, transmission_coefficient=1.0, reaction_path_degeneracy=1.0):
+    """Transition-state theory rate, s-1: k = L kappa (k_B T / h) exp(-dG_act / RT).
 
+    L is the reaction-path (symmetry) factor (dossier.science.degenerate; 1 unless stated).
     Source: H. Eyring, J. Chem. Phys. 1935, 3, 107 (eq. for the absolute rate); M. G. Evans,
     M. Polanyi, Trans. Faraday Soc. 1935, 31, 875.
     """
     t = np.asarray(temperature_k, dtype=float)
     g = np.asarray(barrier_kj_mol, dtype=float)
-    kappa = np.asarray(transmission_coefficient, dtype=float)
+    kappa = np.asarray(transmission_coefficient, dtype=float) * np.asarray(reaction_path_degeneracy, dtype=float)
     return _out(kappa * u.BOLTZMANN_J_K * t / u.PLANCK_J_S * np.exp(-g / (u.GAS_CONSTANT_J_MOL_K * t / 1000.0)))
 
 

@@ -602,6 +602,7 @@ class UncertaintyModel:
         levels: Mapping[str, str] | None = None,
         routes: Mapping[str, str] | None = None,
         level_labels: Mapping[str, str] | None = None,
+        exact: frozenset[str] | set[str] = frozenset(),
     ) -> tuple[dict[str, Distribution | Any], dict[tuple[str, str], float]]:
         """Distributions for a rate function's keyword arguments, and their correlations.
 
@@ -612,7 +613,8 @@ class UncertaintyModel:
             / coupling_cm1.
         level_labels: recipe name -> level-of-theory label (e.g. 'BHLYP/6-31G*') to pick a default.
         Arguments not recognized as uncertain (temperature_k, transmission_coefficient, mode_cm1,
-        huang_rhys, n_max, ...) are passed through unchanged.
+        huang_rhys, n_max, ...) and those named in ``exact`` (e.g. dG0 = 0 by symmetry) are passed
+        through unchanged.
         """
         levels = dict(levels or {})
         routes = dict(routes or {})
@@ -620,7 +622,9 @@ class UncertaintyModel:
         out: dict[str, Any] = {}
         energy_args: list[str] = []
         for name, value in values.items():
-            if name in ENERGY_ARGUMENTS and value is not None and np.ndim(value) == 0:
+            if name in exact:
+                out[name] = value
+            elif name in ENERGY_ARGUMENTS and value is not None and np.ndim(value) == 0:
                 level = levels.get(name, "unstated level")
                 kind = "barrier" if "barrier" in name else "relative"
                 a = self.energy_assumption(level, kind=kind, level_label=labels.get(level))
@@ -682,10 +686,11 @@ class UncertaintyModel:
         levels: Mapping[str, str] | None = None,
         routes: Mapping[str, str] | None = None,
         level_labels: Mapping[str, str] | None = None,
+        exact: frozenset[str] | set[str] = frozenset(),
     ) -> dict[str, Any]:
         """Keys to merge into a rate entry of dossier.json (log10_rate_interval_68/95, median,
         sensitivity, statement, and an 'uncertainty' detail block), for rate_fn(**values)."""
-        inputs, corr = self.rate_inputs(values, levels=levels, routes=routes, level_labels=level_labels)
+        inputs, corr = self.rate_inputs(values, levels=levels, routes=routes, level_labels=level_labels, exact=exact)
         try:
             result = propagate(rate_fn, inputs, samples=self.samples, seed=self.seed, correlations=corr)
         except ValueError as exc:
