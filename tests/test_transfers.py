@@ -279,3 +279,26 @@ def test_pathway_table_names_electronic_energies_as_such(tmp_path):
     section = html_text[html_text.index('id="marcus"'):html_text.index("</section>", html_text.index('id="marcus"'))]
     # electronic energies only (thermal = "none"): the table says dE, never dG (issue 13)
     assert "Driving force ΔE°" in section and "Barrier ΔE‡" in section and "ΔG" not in section
+
+
+def test_transfer_rows_in_the_csv_exports(study):
+    import csv
+    import io
+
+    from dossier.report.exports import write_csv_tables
+
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT + VALUES
+                  + '\n[transfers.solvent]\nname = "acetonitrile"\n')
+    data = analyse(load_project(path))
+    out = study / "csv"
+    out.mkdir()
+    files = write_csv_tables(data, out)
+    params = [r for r in csv.DictReader(io.StringIO(files["parameters.csv"].read_text())) if r["pathway"] == "nb"]
+    kinds = {r["parameter"] for r in params}
+    assert kinds == {"reorganization_energy", "driving_force", "coupling", "outer_reorganization_energy"}
+    lam = next(r for r in params if r["parameter"] == "reorganization_energy")
+    # the CSV holds the analysis' number (as written by the JSON), not a rounded copy
+    assert float(lam["value"]) == pytest.approx(data["transfers"][0]["reorganization_energy"]["rungs"][0]["value_kj_mol"],
+                                                rel=1e-9)
+    rates = [r for r in csv.DictReader(io.StringIO(files["rates.csv"].read_text())) if r["pathway"] == "nb"]
+    assert len(rates) == 3 and all(float(r["rate_per_s"]) > 0 for r in rates)

@@ -166,6 +166,32 @@ def parameter_rows(data: dict) -> list[list[Any]]:
                 prov = r.get("provenance") or {}
                 rows.append([pw["name"], param, r.get("route"), value, unit, prov.get("level_of_theory"),
                              prov.get("formula"), " ".join(prov.get("files") or [])])
+    return rows + transfer_parameter_rows(data)
+
+
+def _at(route: str, separation: Any) -> str:
+    return f"{route} at {separation:.3f} A" if isinstance(separation, (int, float)) else route
+
+
+def transfer_parameter_rows(data: dict) -> list[list[Any]]:
+    """Rows of parameters.csv for the transfers: every lambda and dE0 rung, every coupling point
+    (route at its separation), every outer-sphere lambda; the first column names the transfer."""
+    rows = []
+    for tr in data.get("transfers") or []:
+        for param, block in (("reorganization_energy", tr["reorganization_energy"]), ("driving_force", tr["driving_force"])):
+            for r in block["rungs"]:
+                prov = r.get("provenance") or {}
+                rows.append([tr["name"], param, r.get("set") or r.get("source"), r["value_kj_mol"], "kJ/mol",
+                             r.get("level_of_theory"), prov.get("formula"), " ".join(prov.get("files") or [])])
+        for c in tr["couplings"]:
+            prov = c.get("provenance") or {}
+            rows.append([tr["name"], "coupling", _at(c["route"], c.get("separation_angstrom")), c["value_cm1"], "cm-1",
+                         prov.get("level_of_theory"), prov.get("formula"),
+                         " ".join(prov.get("files") or []) or prov.get("source")])
+        sv = tr.get("solvent") or {}
+        for p in sv.get("points") or []:
+            rows.append([tr["name"], "outer_reorganization_energy", _at("two-sphere", p["separation_angstrom"]),
+                         p["value_kj_mol"], "kJ/mol", sv.get("name"), sv.get("formula"), sv.get("source")])
     return rows
 
 
@@ -179,6 +205,11 @@ def rate_rows(data: dict) -> list[list[Any]]:
                          i68[0], i68[1], i95[0], i95[1], r.get("barrier_kj_mol"), r.get("transmission_coefficient"),
                          "valid" if (r.get("validity") or {}).get("valid") is True else "not valid",
                          (r.get("validity") or {}).get("note")])
+    for tr in data.get("transfers") or []:
+        for r in tr.get("rates", []):
+            rows.append([tr["name"], "marcus golden rule, " + _at(r["route"], r.get("separation_angstrom")),
+                         r["temperature_k"], r["rate_per_s"], None, None, None, None, None, None,
+                         r.get("effective_kappa"), "valid" if r.get("holds") else "not valid", r.get("verdict")])
     return rows
 
 
