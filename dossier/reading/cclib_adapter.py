@@ -12,13 +12,13 @@ What cclib gets wrong or misses for a given program is corrected by the suppleme
 """
 from __future__ import annotations
 
-import io
 import logging
 
 import numpy as np
 from cclib.parser import ORCA, XTB, Gaussian, NWChem, Psi4, QChem
 from cclib.parser.utils import convertor
 
+from dossier.reading.files import LineReader
 from dossier.records import (
     ELEMENT_SYMBOLS,
     Calculation,
@@ -116,7 +116,7 @@ def parse_with_cclib(text: str, program: str, *, orca6: bool = False):
     """
     cls = _GUARDED["ORCA6" if (program == "ORCA" and orca6) else program]
     notes: list[str] = []
-    parser = cls(io.StringIO(text), loglevel=logging.CRITICAL + 10)
+    parser = cls(LineReader(text), loglevel=logging.CRITICAL + 10)  # no second copy of a large log
     try:
         data = parser.parse()
     except Exception as exc:  # noqa: BLE001 - cclib can fail anywhere; the supplements still run
