@@ -742,3 +742,27 @@ def test_no_command_hangs_on_a_named_pipe(small, tmp_path, capsys, command):
         assert rc == 0 and "queue.out: not read: is a named pipe" in (tmp_path / "runs" / "dossier.toml").read_text()
     else:
         assert rc != 0 and "named pipe" in err
+
+
+def test_provenance_names_the_compression_and_the_job(tmp_path):
+    from dossier.analysis.sources import source_entries
+    from dossier.project import load_project
+
+    log = _link1(tmp_path)
+    packed = tmp_path / "cation.out.gz"
+    packed.write_bytes(gzip.compress(fixture_path(O_CATION).read_bytes()))
+    manifest = tmp_path / "dossier.toml"
+    manifest.write_text(f'[states.a]\ngeometry = "{log.name}#job1"\n\n[states.b]\ngeometry = "{packed.name}"\n')
+    entries = {e["path"]: e for e in source_entries(load_project(manifest, jobs=1, use_cache=False))}
+    assert entries[f"{log.name}#job1"]["job"] == 1 and entries[f"{log.name}#job1"]["jobs_in_file"] == 2
+    assert entries[packed.name]["encoding"] == "gzip" and "job" not in entries[packed.name]
+    assert entries[packed.name]["sha256"] == __import__("hashlib").sha256(packed.read_bytes()).hexdigest()
+
+
+def test_read_command_lists_every_job(tmp_path, capsys):
+    from dossier.cli import main
+
+    log = _link1(tmp_path)
+    assert main(["read", str(log), "--json", "--no-cache", "--jobs", "1"]) == 0
+    records = json.loads(capsys.readouterr().out)
+    assert [(r["path"], r["charge"]) for r in records] == [(f"{log}#job1", 0), (f"{log}#job2", 1)]

@@ -16,7 +16,7 @@ def source_entries(project) -> list[dict]:
             used_for.setdefault(Path(rec.source.path), []).append(f"{pw.name} four-point {key.replace('_', ' ')}")
     entries = []
     for path, rec in project.records.items():
-        entries.append({
+        entry = {
             "path": project.label(path),
             "sha256": rec.source.sha256,
             "size_bytes": rec.source.size_bytes,
@@ -27,6 +27,12 @@ def source_entries(project) -> list[dict]:
             "level": dataclasses.asdict(rec.level),
             "job_kinds": list(rec.job_kinds),
             "used_for": sorted(set(used_for.get(Path(rec.source.path), []))),
-        })
+        }
+        # how the text was got, and which job of a multi-job file: only when it is not the plain case
+        if rec.source.encoding:
+            entry["encoding"] = rec.source.encoding  # e.g. "gzip", "UTF-16LE"
+        if rec.source.jobs_in_file > 1:
+            entry["job"], entry["jobs_in_file"] = rec.source.job, rec.source.jobs_in_file
+        entries.append(entry)
     entries.sort(key=lambda e: e["path"])
     return entries
