@@ -270,3 +270,56 @@ def test_mc_quantiles_through_marcus_equal_the_mapped_input_quantiles():
     # first order: d log10 k / d dG0 = -(lambda + dG0) / (2 lambda RT ln 10) at the centre
     rt = c.R * T / 1000.0
     assert r.analytic_log10_sigma == pytest.approx((lam + mu) * sigma / (2 * lam * rt * math.log(10)), rel=1e-4)
+
+
+# --- issue 12: the barrier's level error in every model; intervals that do not depend on the sampling ----
+def test_eyring_interval_is_the_exact_analytic_one():
+    """log10 k_Eyring = const - dG / (RT ln 10) is linear in a normal barrier, so log10 k is normal with
+    sigma / (RT ln 10) (Eyring 1935; R from CODATA via scipy.constants): the printed interval is that, exactly."""
+    from scipy import constants as C
+
+    from dossier.science import rates
+    from dossier.science.uncertainty import UncertaintyModel, log_linear_in_scores
+
+    model = UncertaintyModel()
+    t = 298.15
+    sigma = model.energy_assumption("dft", kind="barrier", level_label="BHLYP/6-31G*").sigma
+    out = model.annotate_rate(rates.eyring_rate_per_s, {"barrier_kj_mol": 50.0, "temperature_k": t},
+                              levels={"barrier_kj_mol": "dft"}, level_labels={"dft": "BHLYP/6-31G*"})
+    central = math.log10(C.k * t / C.h) - 50.0e3 / (C.R * t * math.log(10))
+    half = sigma * 1e3 / (C.R * t * math.log(10))
+    assert out["log10_rate_median"] == pytest.approx(central, abs=1e-4)
+    assert out["log10_rate_interval_68"] == pytest.approx([central - half, central + half], abs=1e-4)
+    assert out["uncertainty"]["interval_method"].startswith("analytic")
+    inputs = model.rate_inputs({"barrier_kj_mol": 50.0, "temperature_k": t}, levels={"barrier_kj_mol": "dft"})[0]
+    assert log_linear_in_scores(rates.eyring_rate_per_s, inputs)
+
+
+def test_every_model_carries_the_barrier_error_and_settled_ends():
+    """The golden-rule rate gets the barrier's level sigma through barrier_shift_kj_mol; its Monte Carlo ends are
+    settled: a run with another seed moves them by less than 0.02 decade."""
+    from dossier.science import rates
+    from dossier.science.uncertainty import UncertaintyModel, log_linear_in_scores
+
+    values = {"coupling_cm1": 300.0, "reorganization_energy_kj_mol": 80.0, "delta_g0_kj_mol": -5.0,
+              "temperature_k": 298.15, "barrier_shift_kj_mol": 0.0}
+    levels = {"delta_g0_kj_mol": "dft", "barrier_shift_kj_mol": "dft"}
+    routes = {"reorganization_energy_kj_mol": "four-point", "coupling_cm1": "half-splitting-at-ts"}
+    a = UncertaintyModel(seed=1).annotate_rate(rates.marcus_nonadiabatic_rate_per_s, values, levels=levels, routes=routes)
+    b = UncertaintyModel(seed=2).annotate_rate(rates.marcus_nonadiabatic_rate_per_s, values, levels=levels, routes=routes)
+    assert "barrier_shift_kj_mol" in a["uncertainty"]["inputs"]
+    ends_a = a["log10_rate_interval_68"] + a["log10_rate_interval_95"]
+    ends_b = b["log10_rate_interval_68"] + b["log10_rate_interval_95"]
+    assert max(abs(x - y) for x, y in zip(ends_a, ends_b)) < 0.02
+    assert a["uncertainty"]["interval_method"].startswith("Monte Carlo")
+    inputs = UncertaintyModel().rate_inputs(values, levels=levels, routes=routes)[0]
+    assert not log_linear_in_scores(rates.marcus_nonadiabatic_rate_per_s, inputs)  # quadratic in lambda
+    # the barrier shift alone widens log10 k by exactly sigma / (RT ln 10), as for Eyring
+    only = UncertaintyModel().annotate_rate(rates.marcus_nonadiabatic_rate_per_s, values,
+                                           levels={"barrier_shift_kj_mol": "dft"},
+                                           exact={"delta_g0_kj_mol", "reorganization_energy_kj_mol", "coupling_cm1"})
+    sigma = UncertaintyModel().energy_assumption("dft", kind="barrier").sigma
+    lo, hi = only["log10_rate_interval_68"]
+    from scipy import constants as C
+
+    assert 0.5 * (hi - lo) == pytest.approx(sigma * 1e3 / (C.R * 298.15 * math.log(10)), abs=2e-4)  # CODATA R

@@ -65,7 +65,8 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
     inputs = {"driving_force": inp.driving["route"], "reorganization_energy": inp.lam["route"],
               "coupling": inp.hab["route"]}
     if model == MODEL_MARCUS:
-        params = {"coupling_cm1": hab, "reorganization_energy_kj_mol": lam, "delta_g0_kj_mol": dg0, "temperature_k": t}
+        params = {"coupling_cm1": hab, "reorganization_energy_kj_mol": lam, "delta_g0_kj_mol": dg0, "temperature_k": t,
+                  "barrier_shift_kj_mol": 0.0}
         k = marcus.marcus_nonadiabatic_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
         kappa = _rate_ratio(k, eyring(g, t))
@@ -79,7 +80,7 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
         m = inp.mlj
         params = {"coupling_cm1": hab, "solvent_reorganization_kj_mol": m["solvent_reorganization_kj_mol"],
                   "delta_g0_kj_mol": dg0, "temperature_k": t, "mode_cm1": m["mode_cm1"],
-                  "huang_rhys": m["huang_rhys"], "n_max": MLJ_N_MAX}
+                  "huang_rhys": m["huang_rhys"], "n_max": MLJ_N_MAX, "barrier_shift_kj_mol": 0.0}
         k = marcus.mlj_rate_per_s(**params)
         g = marcus.marcus_barrier_kj_mol(lam, dg0)
         kappa = _rate_ratio(k, eyring(g, t))
@@ -93,7 +94,7 @@ def _rate_entry(model: str, t: float, inp: _RateInputs) -> dict:
         if inp.nu_n_cm1 is None:
             raise _Unavailable("no nuclear frequency from the modes")
         params = {"coupling_cm1": hab, "reorganization_energy_kj_mol": lam, "delta_g0_kj_mol": dg0,
-                  "temperature_k": t, "nuclear_frequency_cm1": inp.nu_n_cm1}
+                  "temperature_k": t, "nuclear_frequency_cm1": inp.nu_n_cm1, "barrier_shift_kj_mol": 0.0}
         k = marcus.marcus_hush_adiabatic_rate_per_s(**params)
         g = marcus.adiabatic_barrier_kj_mol(lam, dg0, hab)
         kappa = marcus.landau_zener_transmission_coefficient(hab, lam, t, inp.nu_n_cm1)
@@ -126,7 +127,10 @@ def _rates(ctx, pw, inp: _RateInputs, temps: list[float], *, annotate: bool) -> 
 
 
 def _annotate(ctx, model: str, params: dict, inp: _RateInputs) -> dict:
-    levels = {"barrier_kj_mol": inp.levels.get("barrier"), "delta_g0_kj_mol": inp.levels.get("driving_force")}
+    # the barrier's level-of-theory error enters every model: Eyring through its barrier, the others through
+    # barrier_shift_kj_mol (0 at the central value, sampled with the barrier level's sigma)
+    levels = {"barrier_kj_mol": inp.levels.get("barrier"), "delta_g0_kj_mol": inp.levels.get("driving_force"),
+              "barrier_shift_kj_mol": inp.levels.get("barrier")}
     routes = {"reorganization_energy_kj_mol": inp.lam["route"] if inp.lam else None,
               "solvent_reorganization_kj_mol": inp.lam["route"] if inp.lam else None,
               "coupling_cm1": inp.hab["route"] if inp.hab else None}

@@ -56,6 +56,12 @@ def adiabatic_barrier_kj_mol(reorganization_energy_kj_mol, delta_g0_kj_mol, coup
 # ---------------------------------------------------------------------------
 # Rates
 # ---------------------------------------------------------------------------
+def _shift_factor(barrier_shift_kj_mol, temperature_k):
+    """exp(-shift / RT): a shift of the activation free energy (kJ/mol) as a rate factor."""
+    t = np.asarray(temperature_k, dtype=float)
+    return np.exp(-np.asarray(barrier_shift_kj_mol, dtype=float) / (u.GAS_CONSTANT_J_MOL_K * t / 1000.0))
+
+
 def eyring_rate_per_s(barrier_kj_mol, temperature_k, transmission_coefficient=1.0, reaction_path_degeneracy=1.0):
     """Transition-state theory rate, s-1: k = L kappa (k_B T / h) exp(-dG_act / RT).
 
@@ -78,19 +84,22 @@ def marcus_barrier_kj_mol(reorganization_energy_kj_mol, delta_g0_kj_mol):
     return _out((lam + dg0) ** 2 / (4.0 * lam))
 
 
-def marcus_nonadiabatic_rate_per_s(coupling_cm1, reorganization_energy_kj_mol, delta_g0_kj_mol, temperature_k):
+def marcus_nonadiabatic_rate_per_s(coupling_cm1, reorganization_energy_kj_mol, delta_g0_kj_mol, temperature_k,
+                                   barrier_shift_kj_mol=0.0):
     """Nonadiabatic (golden-rule) Marcus rate, s-1.
 
     k = (2 pi / hbar) |H_ab|^2 (4 pi lambda k_B T)^-1/2 exp[-(dG0 + lambda)^2 / (4 lambda k_B T)].
     Source: R. A. Marcus, N. Sutin, Biochim. Biophys. Acta 1985, 811, 265, eq. 26 (classical
     nuclear limit); J. Jortner, J. Chem. Phys. 1976, 64, 4860.
+    ``barrier_shift_kj_mol`` (0 by default) adds a level-of-theory error to the activation energy,
+    k -> k exp(-shift / RT), so the uncertainty propagation can give every model the same barrier error.
     """
     h = _cm1_to_j(coupling_cm1)
     lam = _kj_mol_to_j(reorganization_energy_kj_mol)
     dg0 = _kj_mol_to_j(delta_g0_kj_mol)
     kt = u.BOLTZMANN_J_K * np.asarray(temperature_k, dtype=float)
     pref = 2.0 * u.PI / u.HBAR_J_S * h**2 / np.sqrt(4.0 * u.PI * lam * kt)
-    return _out(pref * np.exp(-((dg0 + lam) ** 2) / (4.0 * lam * kt)))
+    return _out(pref * np.exp(-((dg0 + lam) ** 2) / (4.0 * lam * kt)) * _shift_factor(barrier_shift_kj_mol, temperature_k))
 
 
 def huang_rhys_factor(inner_reorganization_kj_mol, mode_cm1):
@@ -101,7 +110,7 @@ def huang_rhys_factor(inner_reorganization_kj_mol, mode_cm1):
 
 
 def mlj_rate_per_s(coupling_cm1, solvent_reorganization_kj_mol, delta_g0_kj_mol, temperature_k, mode_cm1,
-                   huang_rhys, n_max=40):
+                   huang_rhys, n_max=40, barrier_shift_kj_mol=0.0):
     """Marcus–Levich–Jortner rate with one effective quantum mode, s-1.
 
     k = (2 pi / hbar) |H_ab|^2 (4 pi lambda_s k_B T)^-1/2
@@ -110,6 +119,8 @@ def mlj_rate_per_s(coupling_cm1, solvent_reorganization_kj_mol, delta_g0_kj_mol,
     Huang–Rhys factor of the quantum mode hbar omega (= h c nu~, nu~ = mode_cm1).
     Source: J. Jortner, J. Chem. Phys. 1976, 64, 4860, eq. 3.15 (low-temperature limit for the
     quantum mode, hbar omega >> k_B T). With S -> 0 it is the classical Marcus rate with lambda_s.
+    ``barrier_shift_kj_mol`` (0 by default) adds a level-of-theory error to the activation energy,
+    k -> k exp(-shift / RT), so the uncertainty propagation can give every model the same barrier error.
     """
     h = _cm1_to_j(coupling_cm1)
     lam_s = _kj_mol_to_j(solvent_reorganization_kj_mol)
@@ -125,7 +136,7 @@ def mlj_rate_per_s(coupling_cm1, solvent_reorganization_kj_mol, delta_g0_kj_mol,
     gauss = -((dg0[ex] + lam_s[ex] + n * hw[ex]) ** 2) / (4.0 * lam_s[ex] * kt[ex])
     total = np.exp(log_fc + gauss).sum(axis=-1)
     pref = 2.0 * u.PI / u.HBAR_J_S * h**2 / np.sqrt(4.0 * u.PI * lam_s * kt)
-    return _out(pref * total)
+    return _out(pref * total * _shift_factor(barrier_shift_kj_mol, temperature_k))
 
 
 def electronic_frequency_per_s(coupling_cm1, reorganization_energy_kj_mol, temperature_k):
@@ -170,7 +181,7 @@ def landau_zener_transmission_coefficient(coupling_cm1, reorganization_energy_kj
 
 
 def marcus_hush_adiabatic_rate_per_s(coupling_cm1, reorganization_energy_kj_mol, delta_g0_kj_mol, temperature_k,
-                                     nuclear_frequency_cm1):
+                                     nuclear_frequency_cm1, barrier_shift_kj_mol=0.0):
     """Semiclassical two-state rate k = kappa_el nu_n exp(-dG*_ad / RT), s-1.
 
     dG*_ad from adiabatic_barrier_kj_mol (two-state model), kappa_el from the Landau–Zener
@@ -179,13 +190,16 @@ def marcus_hush_adiabatic_rate_per_s(coupling_cm1, reorganization_energy_kj_mol,
     Source: N. Sutin, Prog. Inorg. Chem. 1983, 30, 441; M. D. Newton, N. Sutin,
     Annu. Rev. Phys. Chem. 1984, 35, 437, eq. 3.5; B. S. Brunschwig, C. Creutz, N. Sutin,
     Chem. Soc. Rev. 2002, 31, 168.
+    ``barrier_shift_kj_mol`` (0 by default) adds a level-of-theory error to the activation energy,
+    k -> k exp(-shift / RT), so the uncertainty propagation can give every model the same barrier error.
     """
     barrier = np.asarray(adiabatic_barrier_kj_mol(reorganization_energy_kj_mol, delta_g0_kj_mol, coupling_cm1))
     kappa = np.asarray(landau_zener_transmission_coefficient(coupling_cm1, reorganization_energy_kj_mol,
                                                              temperature_k, nuclear_frequency_cm1))
     t = np.asarray(temperature_k, dtype=float)
     nu_n = np.asarray(nuclear_frequency_cm1, dtype=float) * u.CM1_HZ
-    return _out(kappa * nu_n * np.exp(-barrier / (u.GAS_CONSTANT_J_MOL_K * t / 1000.0)))
+    return _out(kappa * nu_n * np.exp(-barrier / (u.GAS_CONSTANT_J_MOL_K * t / 1000.0))
+                * _shift_factor(barrier_shift_kj_mol, temperature_k))
 
 
 def arrhenius_fit(temperatures_k, rates_per_s) -> dict:
