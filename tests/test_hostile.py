@@ -418,6 +418,10 @@ def test_signed_archive_verifies_with_its_key_only(small, tmp_path):
     assert result.signature == tmp_path / "signed.tar.gz.sig" and result.signature.is_file()
     good = verify_archive(out, signer=f"{mine}.pub")
     assert good.ok and good.signature
+    from dossier.cli import main
+
+    assert main(["verify", str(out), "--signer", f"{mine}.pub"]) == 0
+    assert main(["verify", str(out), "--signer", f"{theirs}.pub"]) == 1
     assert not verify_archive(out, signer=f"{theirs}.pub").ok
     allowed = tmp_path / "allowed_signers"
     allowed.write_text(f"me@example.org {(tmp_path / 'mine.pub').read_text()}")
@@ -766,3 +770,27 @@ def test_read_command_lists_every_job(tmp_path, capsys):
     assert main(["read", str(log), "--json", "--no-cache", "--jobs", "1"]) == 0
     records = json.loads(capsys.readouterr().out)
     assert [(r["path"], r["charge"]) for r in records] == [(f"{log}#job1", 0), (f"{log}#job2", 1)]
+
+
+def test_cut_off_four_point_jobs_flow_through_checks_and_report(tmp_path):
+    import shutil
+
+    from conftest import demo_path
+    from dossier.report.build import build_dossier
+
+    demo = tmp_path / "demo"
+    shutil.copytree(demo_path("fourpoint").parent, demo, ignore=shutil.ignore_patterns("dossier-build*", ".*"))
+    rng = random.Random(SEED)
+    for name in ("anion_at_neutral.out", "neutral_opt.out"):  # killed by the queue at a seeded point
+        p = demo / "fourpoint" / name
+        text = p.read_text()
+        p.write_text(text[: rng.randrange(len(text) // 4, 3 * len(text) // 4)])
+    result = build_dossier(demo / "dossier.toml", tmp_path / "out", formats=("json", "xyz", "html"), jobs=1,
+                           draft=True)
+    assert any(c["code"] == "RUN-TRUNCATED" for c in result.data["checks"])
+    lines = (tmp_path / "out" / "states.xyz").read_text().splitlines()
+    i = 0
+    while i < len(lines):
+        n = int(lines[i])
+        assert all(len(a.split()) == 4 for a in lines[i + 2: i + 2 + n]) and len(lines[i + 2: i + 2 + n]) == n
+        i += 2 + n

@@ -460,8 +460,8 @@ def _check_four_point(c: _Collector, project: Project, pw) -> None:
     pairs_same_geometry = (("reactant_at_product", "product_at_product"), ("product_at_reactant", "reactant_at_reactant"))
     for a, b in pairs_same_geometry:
         ra, rb = fp[a], fp[b]
-        if not ra.elements or not rb.elements:
-            continue
+        if not ra.coordinates_angstrom or not rb.coordinates_angstrom:
+            continue  # a job that did not finish has no geometry to compare (its status is reported above)
         if not geometry.same_atom_order(ra.elements, rb.elements):
             c.add("error", "FOUR-POINT", f"{what}: {a} and {b} list different atoms or atom orders; "
                                          "they must share one geometry", file=files.get(a))

@@ -269,6 +269,9 @@ def xyz_text(data: dict) -> str:
         rows = [f"{el:<2s} {x:14.8f} {y:14.8f} {z:14.8f}" for el, (x, y, z) in zip(st["elements"], st["coordinates_angstrom"])]
         frames.append([str(len(rows)), comment, *rows])
     for name, job, frag in fragment_structures(data):
+        if not _xyz_usable(frag):
+            left_out.append(f"{name} (no final coordinates)")
+            continue
         e = job.get("energy_hartree")
         comment = (f"{name} E={e:.8f} Eh (four-point fragment, {job.get('file') or 'file unknown'})" if e is not None
                    else f"{name} E=unknown (four-point fragment)")
