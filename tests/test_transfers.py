@@ -303,3 +303,13 @@ def test_transfer_rows_in_the_csv_exports(study):
                                                 rel=1e-9)
     rates = [r for r in csv.DictReader(io.StringIO(files["rates.csv"].read_text())) if r["pathway"] == "nb"]
     assert len(rates) == 3 and all(float(r["rate_per_s"]) > 0 for r in rates)
+
+
+def test_routes_that_disagree_are_pointed_out(study):
+    two = VALUES + '\n[[transfers.couplings]]\nroute = "value"\ncoupling_cm1 = 900.0\nseparation_angstrom = 3.6\n' \
+                   'source = "a second invented value"\n'
+    tr = analyse(load_project(_write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT
+                                     + two)))["transfers"][0]
+    # 900 vs 300 cm-1 at 3.6 A: a factor 3 (> 2); the other separations have one route each
+    said = [s for s in tr["statements"] if "disagree" in s]
+    assert len(said) == 1 and "factor of 3.0" in said[0] and "R = 3.60 A" in said[0] and "electron" in said[0]

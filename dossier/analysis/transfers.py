@@ -286,7 +286,28 @@ def _rates(tr, points: list[dict], lam: dict | None, dg: dict | None, sol: dict 
     return rows
 
 
-def _statements(tr, lam: dict | None, dg: dict | None, scans: list[dict]) -> list[str]:
+#: Routes at one separation that differ by more than this factor are pointed out (common practice, no source).
+ROUTE_DISAGREEMENT_FACTOR = 2.0
+
+
+def _disagreements(who: str, points: list[dict]) -> list[str]:
+    """Sentences for separations where the coupling routes differ by more than the factor above."""
+    by_r: dict[float, list[dict]] = {}
+    for p in points:
+        if p.get("separation_angstrom") is not None and p.get("value_cm1"):
+            by_r.setdefault(round(p["separation_angstrom"], 2), []).append(p)
+    out = []
+    for r, ps in sorted(by_r.items()):
+        lo, hi = min(ps, key=lambda p: p["value_cm1"]), max(ps, key=lambda p: p["value_cm1"])
+        if hi["value_cm1"] > ROUTE_DISAGREEMENT_FACTOR * lo["value_cm1"]:
+            out.append(f"At R = {r:.2f} A the {who} coupling routes disagree by a factor of "
+                       f"{hi['value_cm1'] / lo['value_cm1']:.1f}: {hi['route']} ({hi['provenance']['level_of_theory']}) "
+                       f"gives {hi['value_cm1']:.0f} cm-1, {lo['route']} ({lo['provenance']['level_of_theory']}) "
+                       f"{lo['value_cm1']:.0f} cm-1.")
+    return out
+
+
+def _statements(tr, lam: dict | None, dg: dict | None, scans: list[dict], points: list[dict]) -> list[str]:
     who = tr.carrier or "charge"
     kind = "self-exchange" if tr.kind == "self-exchange" else "cross"
     article = "an" if who[0] in "aeiou" else "a"
@@ -305,7 +326,7 @@ def _statements(tr, lam: dict | None, dg: dict | None, scans: list[dict]) -> lis
             out.append(f"The {who} coupling ({s['route']}, {s['level_of_theory']}) decays with "
                        f"beta = {f['beta_per_angstrom']:.2f} ± {f['beta_error_per_angstrom']:.2f} per angstrom "
                        f"over {f['n_points']} separations.")
-    return out
+    return out + _disagreements(who, points)
 
 
 def transfer_entry(project, tr, temperature_k: float) -> dict:
@@ -331,7 +352,7 @@ def transfer_entry(project, tr, temperature_k: float) -> dict:
                           tr.driving_force != "symmetry" else "zero by symmetry", "rungs": dg_rungs, "quoted": dg},
         "couplings": points, "scans": scans, "solvent": sol,
         "rates": _rates(tr, points, lam, dg, sol, temperature_k), "missing": missing,
-        "statements": _statements(tr, lam, dg, scans),
+        "statements": _statements(tr, lam, dg, scans, points),
     }
 
 
