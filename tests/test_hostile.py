@@ -794,3 +794,51 @@ def test_cut_off_four_point_jobs_flow_through_checks_and_report(tmp_path):
         n = int(lines[i])
         assert all(len(a.split()) == 4 for a in lines[i + 2: i + 2 + n]) and len(lines[i + 2: i + 2 + n]) == n
         i += 2 + n
+
+
+@pytest.mark.slow
+def test_a_browser_fetches_nothing_even_if_a_reference_slipped_through(cut_build, tmp_path):
+    """Chromium opens the real dossier with outside references planted after rendering (as if
+    a template check had missed them): the page's policy must stop every one, while the inline
+    figures and a data: image still draw."""
+    import http.server
+    import subprocess
+    import threading
+
+    from conftest import require_program
+
+    chromium = require_program("chromium")
+    hits: list[str] = []
+
+    class Counting(http.server.BaseHTTPRequestHandler):
+        def do_GET(self):  # noqa: N802 - the http.server name
+            hits.append(self.path)
+            self.send_response(404)
+            self.end_headers()
+
+        def log_message(self, *a):
+            pass
+
+    server = http.server.HTTPServer(("127.0.0.1", 0), Counting)
+    threading.Thread(target=server.serve_forever, daemon=True).start()
+    url = f"http://127.0.0.1:{server.server_address[1]}"
+    dot = ("data:image/png;base64,iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mP8z8BQDwAEhQGAhKmMIQAAAABJRU5ErkJggg==")
+    planted = (f'<img src="{url}/img.png"><img src="file:///etc/hostname"><img src="{dot}" width="40" height="40">'
+               f'<div style="background:url({url}/bg.png);width:9px;height:9px"></div>'
+               f'<link rel="stylesheet" href="{url}/x.css"><iframe src="{url}/frame"></iframe>')
+    page = (cut_build.out_dir / "dossier.html").read_text().replace("<body>", "<body>" + planted, 1)
+    target = tmp_path / "page.html"
+    target.write_text(page)
+    shot = tmp_path / "page.png"
+    try:
+        done = subprocess.run(
+            [chromium, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+             "--disable-background-networking", "--disable-component-update", "--disable-sync",
+             f"--user-data-dir={tmp_path / 'profile'}", "--enable-logging=stderr", "--v=0",
+             f"--screenshot={shot}", "--window-size=1000,1400", target.as_uri()],
+            capture_output=True, text=True, timeout=120)
+    finally:
+        server.shutdown()
+    assert hits == [], hits  # not one request reached the network
+    assert shot.is_file() and shot.stat().st_size > 20000, done.stderr[-2000:]
+    assert "Content Security Policy" in done.stderr  # refused by the policy, not by chance
