@@ -81,3 +81,29 @@ def test_symmetric_saddle_hop_factor_undoes_the_symmetry_number_in_the_free_ener
     (ea, xa), (eb, xb), _ = _structures()
     _, perm = dg.best_image_match(ea, xa, xb)
     assert dg.symmetric_under(xt, perm) < 1e-9 and dg.symmetric_under(xa, perm) > 0.01
+
+
+def test_the_manifest_can_state_or_deny_a_symmetric_transfer(tmp_path):
+    """`symmetric = false` turns the detection off (dG0 then computed); a non-boolean is a one-line manifest error."""
+    import shutil
+
+    from conftest import DEMO
+    from dossier.analysis.assemble import analyse
+    from dossier.errors import ManifestError
+    from dossier.project import load_project
+
+    if not (DEMO / "pathway").is_dir():
+        pytest.skip("demo outputs not present")
+    shutil.copytree(DEMO / "pathway", tmp_path / "pathway")
+    states = "".join(f'[states.{s}]\ngeometry = "pathway/{s}_opt.out"\n' for s in ("min_a", "ts", "min_b"))
+    head = states + '[recipes.e]\nthermal = "none"\n[[pathways]]\nname = "p"\nreactant = "min_a"\n' \
+                    'transition_state = "ts"\nproduct = "min_b"\n'
+    for word, images in (("", True), ("symmetric = false\n", False)):
+        (tmp_path / "dossier.toml").write_text(head + word)
+        pw = analyse(load_project(tmp_path / "dossier.toml"))["pathways"][0]
+        assert pw["symmetric_transfer"]["images"] is images
+        assert (pw["delta_g0_route"] == "symmetry") is images
+    (tmp_path / "dossier.toml").write_text(head + 'symmetric = "yes"\n')
+    with pytest.raises(ManifestError) as err:
+        load_project(tmp_path / "dossier.toml")
+    assert "symmetric must be true or false" in str(err.value) and "\n" not in str(err.value)

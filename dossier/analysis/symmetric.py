@@ -22,6 +22,9 @@ def symmetric_transfer(ctx, pw) -> dict[str, Any] | None:
         return None
     r, prod = p.states[pw.reactant].geometry, p.states[pw.product].geometry
     if r is None or prod is None or not r.coordinates_angstrom or not prod.coordinates_angstrom:
+        if getattr(pw, "symmetric", None):
+            return {"images": True, "detected_from": "the manifest (symmetric = true)", "hop_factor": 1.0,
+                    "ts_symmetric": None, "reason": "stated by the manifest (no geometries to compare)"}
         return None
     rc = pw.levels.get("driving_force", pw.recipe)
     try:
@@ -30,10 +33,17 @@ def symmetric_transfer(ctx, pw) -> dict[str, Any] | None:
         de = None
     out = degenerate.are_images(r.elements, r.coordinates_angstrom, prod.elements, prod.coordinates_angstrom, de)
     out.update({"detected_from": "geometries and electronic energies", "hop_factor": 1.0, "ts_symmetric": None})
+    stated = getattr(pw, "symmetric", None)
+    if stated is not None:  # the manifest says so: it decides, the detection is kept beside it
+        out.update({"detected_images": out["images"], "images": bool(stated),
+                    "detected_from": f"the manifest (symmetric = {'true' if stated else 'false'})",
+                    "reason": f"stated by the manifest; detection: {out['reason']}"})
     if not out["images"] or not pw.transition_state:
         return out
     ts = p.states[pw.transition_state].geometry
     if ts is None or list(ts.elements) != list(r.elements):
+        return out
+    if list(prod.elements) != list(r.elements) or len(ts.coordinates_angstrom) != len(r.elements):
         return out
     _, perm = degenerate.best_image_match(list(r.elements), r.coordinates_angstrom, prod.coordinates_angstrom)
     rmsd = degenerate.symmetric_under(ts.coordinates_angstrom, perm)

@@ -137,7 +137,7 @@ def _bind_pathway(m: Manifest, pw: PathwaySpec, first_recipe: str, by_path: dict
         name=pw.name, reactant=pw.reactant, transition_state=pw.transition_state, product=pw.product,
         donor_site=pw.donor_site, acceptor_site=pw.acceptor_site, bridge_site=pw.bridge_site, recipe=rname,
         levels=levels, ladder=list(pw.ladder), four_point=fp, four_point_note=pw.four_point_note,
-        four_point_files=fp_files,
+        four_point_files=fp_files, symmetric=pw.symmetric,
     )
 
 

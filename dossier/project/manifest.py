@@ -44,7 +44,7 @@ _STATE_KEYS = ("role", "geometry", "frequencies", "excited_states", "single_poin
 _RECIPE_KEYS = ("electronic", "thermal", "based_on", "mixed_levels", "note")
 _PATHWAY_KEYS = (
     "name", "reactant", "transition_state", "product", "donor_site", "acceptor_site", "bridge_site",
-    "recipe", "levels", "ladder", "four_point",
+    "recipe", "levels", "ladder", "four_point", "symmetric",
 )
 _FAMILY_KEYS = ("name", "states", "recipe")
 
@@ -470,10 +470,14 @@ def _pathway(pw: Any, i: int, v: _Validator, refs: _Refs, files: _Files) -> Path
     if len(set(ladder)) != len(ladder):
         raise v.fail(key + ("ladder",), f"pathway '{name}': ladder lists a recipe twice; list each rung once")
     four_point, fp_note = _four_point(pw, key, name, v, files)
+    symmetric = pw.get("symmetric")
+    if symmetric is not None and not isinstance(symmetric, bool):
+        raise v.fail(key + ("symmetric",), f"{_dotted(key + ('symmetric',))} must be true or false; got "
+                                           f"{_type_word(symmetric)} {symmetric!r}")
     return PathwaySpec(
         name=name, reactant=reactant, product=product, transition_state=ts, donor_site=donor,
         acceptor_site=acceptor, bridge_site=bridge, recipe=recipe, levels=levels, ladder=ladder,
-        four_point=four_point, four_point_note=fp_note, line=v.loc.line_of(key),
+        four_point=four_point, four_point_note=fp_note, symmetric=symmetric, line=v.loc.line_of(key),
     )
 
 

@@ -89,6 +89,7 @@ class PathwaySpec:
     ladder: list[str] = field(default_factory=list)
     four_point: dict[str, Path] | None = None
     four_point_note: str | None = None
+    symmetric: bool | None = None  # reactant and product images of each other; None: detect
     line: int = 0
 
 
@@ -176,6 +177,7 @@ class Pathway:
     four_point: dict[str, Calculation] | None = None
     four_point_note: str | None = None
     four_point_files: dict[str, str] | None = None  # as written
+    symmetric: bool | None = None  # the manifest's word on a degenerate transfer; None: detected
 
     @property
     def state_names(self) -> list[str]:
