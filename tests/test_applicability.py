@@ -173,3 +173,25 @@ def test_robin_day_borderline_when_zero_point_energy_removes_the_double_well():
     assert ap.robin_day_assessment(60 * hk, 100.0, True, deep)["class"] == "II/III"  # ratio 1.2 vs a deep well
     # reverse barrier: the saddle must lie above both minima
     assert ap.double_well_on(5.0, -1.0) is False and ap.double_well_on(None, 1.0) is None
+
+
+def test_summary_states_nothing_about_a_pathway_whose_states_have_check_errors():
+    from test_analysis import synthetic_project
+
+    from dossier.analysis.assemble import analyse
+    from dossier.analysis.decisions import add_headlines, report_choices
+    from dossier.report.render import render_html, summary_view
+
+    data = analyse(synthetic_project())
+    assert data["pathways"][0]["headline_rate"] is not None  # a valid TST rate without errors
+    data["checks"].append({"severity": "error", "state": "ts", "code": "IMAG", "message": "two imaginary modes",
+                           "file": None})
+    add_headlines(data)
+    data["report"] = report_choices(data)
+    pw = data["pathways"][0]
+    assert pw["headline_rate"] is None and "ts" in pw["headline_reason"]
+    (s,) = [x for x in summary_view(data) if x["pathway"]["name"] == pw["name"]]
+    assert s["flagged"] == ["ts"]
+    html_text = render_html(data, [])
+    summary = html_text[html_text.index('id="summary"'):html_text.index("</section>", html_text.index('id="summary"'))]
+    assert "so this summary states nothing about it" in summary and "Predicted rate" not in summary

@@ -223,6 +223,7 @@ def summary_view(data: dict) -> list[dict]:
     states = _state_by_name(data)
     scheme = data["report"]["population_scheme"]
     out = []
+    errors = {c.get("state") for c in data.get("checks") or [] if c.get("severity") == "error" and c.get("state")}
     for pw in data.get("pathways", []):
         head = pw.get("headline_rate")
         model = head["model"] if head else None
@@ -249,6 +250,7 @@ def summary_view(data: dict) -> list[dict]:
             "model": model,
             "rates": rates,
             "headline": head, "headline_reason": pw.get("headline_reason"), "supported": pw.get("supported"),
+            "flagged": [n for n in (pw.get("reactant"), pw.get("transition_state"), pw.get("product")) if n in errors],
             "experiment": exp_all, "agreement": agreement,
             "band": (pw.get("experiment") or {}).get("band"),
         })
