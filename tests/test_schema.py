@@ -71,5 +71,9 @@ def test_schema_rejects_breaking_changes_and_accepts_new_keys(validator, demo_js
     assert broken(lambda d: pw(d)["rates"][0].update(log10_rate_interval_68=[1.0]))
     assert broken(lambda d: d.update(schema_version=0))
     # additions are not breaking: new keys anywhere validate
-    assert not broken(lambda d: (d.update(draft=True), pw(d).update(headline_rate={"model": "marcus"}),
-                                 pw(d)["rates"][0].update(validity={"valid": True})))
+    assert not broken(lambda d: (d.update(draft=True), pw(d).update(a_new_block={"model": "marcus"}),
+                                 pw(d)["rates"][0].update(a_new_detail={"valid": True})))
+    # every rate says where its model holds, and each pathway what it quotes (issue 12)
+    assert broken(lambda d: pw(d)["rates"][0].pop("validity"))
+    assert broken(lambda d: pw(d)["rates"][0].update(validity={"valid": True}))
+    assert broken(lambda d: pw(d).pop("headline_rate"))
