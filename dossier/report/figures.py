@@ -498,6 +498,12 @@ def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool
 
 # -- the whole set ------------------------------------------------------------------------
 
+def profile_series(profile: dict):
+    from dossier.report.profile_figure import profile_series as series
+
+    return series(profile)
+
+
 def sites_of(data: dict) -> dict[str, list[int]]:
     return dict((data.get("project") or {}).get("sites") or {})
 
@@ -525,6 +531,15 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
             "frequencies exist, electronic energies otherwise. Levels are joined in pathway order." if join else
             f"Relative energies of the members of {what} {name}{t_text} ({unit}), one series per recipe.",
             {"kind": kind, "name": name})
+        if kind == "pathway" and any(len(profile_series(p)) > 1 for p in profs):
+            from dossier.report.profile_figure import energy_kinds_figure
+
+            temps = sorted({float(t) for p in profs for q in p.get("points", []) for t in (q.get("gibbs_kj_mol") or {})})
+            add(energy_kinds_figure(profs, unit), f"kinds-{n}", "energies", f"Energy kinds along pathway {name}",
+                f"Electronic energy E (solid), E + ZPE (dashed) and Gibbs energy G (dotted) at "
+                f"{', '.join(f'{t:g}' for t in temps) or 'no'} K of each state of pathway {name} ({unit}, relative to the "
+                "first state), one panel per recipe: a barrier in E that disappears in E + ZPE means the double well "
+                "does not survive zero-point motion.", {"kind": "kinds", "name": name})
     for n, pw in enumerate(data.get("pathways", [])):
         if pw.get("reorganization_energy_kj_mol") is not None:
             add(diabatic_figure(pw, unit), f"curves-{n}", "marcus", f"Two-state curves of pathway {pw['name']}",

@@ -448,6 +448,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "states_by_name": _state_by_name(data),
         "state_energy": state_energy_hartree,
         "dossier_version": __version__, "carrier_word": carrier,
+        "ladder_rows": lambda pw: trace.ladder_rows(data, pw),
         "site_table": trace.site_rows(data), "recipes": trace.recipe_rows(data), "fragments": trace.fragments(data),
     }
 

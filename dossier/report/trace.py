@@ -61,3 +61,50 @@ def recipe_rows(data: dict) -> list[dict]:
 def fragments(data: dict) -> list[dict]:
     """Four-point fragment structures (name, file, energy, elements, coordinates)."""
     return [{"name": name, **job, **frag} for name, job, frag in fragment_structures(data)]
+
+
+def _profile_point(data: dict, pathway: str, recipe: str, state: str | None) -> dict | None:
+    for prof in data.get("energy_profiles", []):
+        if prof.get("kind", "pathway") == "pathway" and prof.get("name") == pathway and prof.get("recipe") == recipe:
+            return next((p for p in prof.get("points", []) if p.get("state") == state), None)
+    return None
+
+
+def _first_param(rates: list[dict], key: str) -> float | None:
+    return next(((r.get("parameters") or {}).get(key) for r in rates if (r.get("parameters") or {}).get(key) is not None), None)
+
+
+def ladder_rows(data: dict, pw: dict) -> list[dict]:
+    """One row per level of the method ladder, from what dossier.json holds for it: the electronic
+    barrier from the level's energy profile, ΔG‡ and ΔG° of the rung, λ and H_ab the rung's rates
+    used, localization and Robin–Day class where the pathway's own recipe is that level, and the
+    rates at the report temperature with their validity verdicts."""
+    t_ref = (data.get("report") or {}).get("temperature_k")
+    states = {s["name"]: s for s in data.get("states", [])}
+    scheme = (data.get("report") or {}).get("population_scheme")
+    rows = []
+    for rung in pw.get("ladder") or []:
+        recipe = rung.get("recipe")
+        r0 = _profile_point(data, pw["name"], recipe, pw.get("reactant"))
+        ts = _profile_point(data, pw["name"], recipe, pw.get("transition_state"))
+        de = (ts["electronic_kj_mol"] - r0["electronic_kj_mol"]
+              if r0 and ts and ts.get("electronic_kj_mol") is not None and r0.get("electronic_kj_mol") is not None else None)
+        rates = rung.get("rates") or []
+        own = recipe == pw.get("recipe")
+        loc = None
+        if own:
+            sch = (((states.get(pw.get("reactant")) or {}).get("localization") or {}).get("schemes") or {}).get(scheme or "")
+            loc = (sch or {}).get("localization_index")
+        at_t = [r for r in rates if t_ref is not None and abs((r.get("temperature_k") or 0) - t_ref) < 1e-6]
+        rows.append({
+            "recipe": recipe, "level_of_theory": rung.get("level_of_theory"),
+            "electronic_barrier_kj_mol": de, "barrier_kj_mol": rung.get("barrier_kj_mol"),
+            "driving_force_kj_mol": rung.get("driving_force_kj_mol"),
+            "reorganization_energy_kj_mol": _first_param(rates, "reorganization_energy_kj_mol"),
+            "coupling_cm1": _first_param(rates, "coupling_cm1"),
+            "localization_index": loc, "robin_day_class": pw.get("robin_day_class") if own else None, "own": own,
+            "headline": pw.get("headline_rate") if own else None,
+            "headline_reason": pw.get("headline_reason") if own else None,
+            "rates_at_t": at_t, "notes": rung.get("notes") or [],
+        })
+    return rows

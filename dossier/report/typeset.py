@@ -36,7 +36,7 @@ _TOKENS: list[tuple[str, str]] = [
     (r"\bfwhm\b", "Δν̃<sub>1/2</sub>"), (r"\bdnu_1/2\b", "Δν̃<sub>1/2</sub>"),
     (r"\blambda_s\b", "λ<sub>s</sub>"), (r"\blambda_i\b", "λ<sub>i</sub>"), (r"\blambda\b", "λ"),
     (r"\bk_B T\b", "k<sub>B</sub>T"), (r"\bkT\b", "k<sub>B</sub>T"), (r"\bk_B\b", "k<sub>B</sub>"),
-    (r"\bhbar\b", "ħ"), (r"\bpi x\b", "π ×"), (r"\bpi\b", "π"), (r"\bsigma\b", "σ"),
+    (r"\bhbar\b", "ħ"), (r"\bpi x\b", "π ×"), (r"\bpi\b", "π"), (r"\bsigma\b", "σ"), (r"\b2 pi gamma\b", "2πγ"), (r"\bgamma\b", "γ"),
     (r"\bomega_j\b", "ω<sub>j</sub>"), (r"\bQ_j\b", "Q<sub>j</sub>"), (r"\bsum_j\b", "Σ<sub>j</sub>"), (r"\bsum_n\b", "Σ<sub>n</sub>"),
     (r"(?<![A-Za-z_])H_ab\b", "H<sub>ab</sub>"), (r"\b2hab over lambda\b", "2H<sub>ab</sub>/λ"), (r"\br_ab\b", "r<sub>ab</sub>"),
     (r"\bE_op\b", "E<sub>op</sub>"), (r"\bk_obs\b", "k<sub>obs</sub>"), (r"\bk_intra\b", "k<sub>intra</sub>"),
