@@ -449,6 +449,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "state_energy": state_energy_hartree,
         "dossier_version": __version__, "carrier_word": carrier,
         "ladder_rows": lambda pw: trace.ladder_rows(data, pw),
+        "references_scf": trace.reference_rows(data), "ts_rows": trace.transition_state_rows(data),
         "site_table": trace.site_rows(data), "recipes": trace.recipe_rows(data), "fragments": trace.fragments(data),
     }
 

@@ -108,3 +108,60 @@ def ladder_rows(data: dict, pw: dict) -> list[dict]:
             "rates_at_t": at_t, "notes": rung.get("notes") or [],
         })
     return rows
+
+
+def _multiplicity_by_file(data: dict) -> dict[str, int]:
+    out: dict[str, int] = {}
+    for st in data.get("states", []):
+        files = st.get("files") or {}
+        paths = [files.get(k) for k in ("geometry", "frequencies", "excited_states")] + list((files.get("single_points") or {}).values())
+        for path in paths:
+            if path and st.get("multiplicity"):
+                out[path] = st["multiplicity"]
+    for frag in fragments(data):
+        if frag.get("file") and frag.get("multiplicity"):
+            out[frag["file"]] = frag["multiplicity"]
+    return out
+
+
+def reference_word(level: dict, open_shell: bool | None) -> str:
+    """The SCF reference of a level as the record gives it (unrestricted flag and spin state)."""
+    unrestricted = level.get("unrestricted")
+    dft = (level.get("method") or "").upper() == "DFT" or bool(level.get("functional"))
+    if unrestricted is None:
+        return "reference not recorded"
+    if dft:
+        return "unrestricted Kohn–Sham (UKS)" if unrestricted else ("restricted open-shell Kohn–Sham (ROKS)" if open_shell else "restricted Kohn–Sham (RKS)")
+    if unrestricted:
+        return "UHF reference"
+    return "ROHF reference" if open_shell else "RHF reference"
+
+
+def reference_rows(data: dict) -> list[dict]:
+    """Per level of theory and shell type: the SCF reference and the files, from the sources."""
+    mult = _multiplicity_by_file(data)
+    rows: dict[tuple, dict] = {}
+    for src in data.get("sources", []):
+        m = mult.get(src.get("path"))
+        open_shell = None if m is None else m > 1
+        word = reference_word(src.get("level") or {}, open_shell)
+        key = (src.get("level_of_theory") or "level not recorded", word)
+        row = rows.setdefault(key, {"level_of_theory": key[0], "reference": word, "files": []})
+        row["files"].append(src["path"])
+    return list(rows.values())
+
+
+def transition_state_rows(data: dict) -> list[dict]:
+    """How each transition state was obtained, from what the records and the manifest say."""
+    out = []
+    sources = {s["path"]: s for s in data.get("sources", [])}
+    for st in data.get("states", []):
+        if st.get("role") != "transition-state":
+            continue
+        files = st.get("files") or {}
+        geo = sources.get(files.get("geometry") or "", {})
+        freq = st.get("frequencies") or {}
+        out.append({"state": st["name"], "geometry_file": files.get("geometry"), "job_kinds": geo.get("job_kinds") or [],
+                    "note": st.get("note"), "frequency_file": files.get("frequencies"),
+                    "n_imaginary": freq.get("n_imaginary"), "imaginary_cm1": freq.get("imaginary_cm1") or []})
+    return out
