@@ -71,3 +71,31 @@ def test_typeset_known_tokens():
 def test_temperatures_as_given_and_imaginary_modes():
     assert fmt_temperature(298.15) == "298.15" and fmt_temperature(300.0) == "300" and fmt_temperature(298.1) == "298.1"
     assert fmt_wavenumber(-778.349) == "778i" and fmt_wavenumber(1066.3) == "1066"
+
+
+def test_states_are_drawn_in_one_frame_and_aligned_rmsd_is_below_the_unaligned():
+    """Two localized structures, the second turned and shifted as a program might write it: after
+    the Kabsch superposition its RMSD to the first is that of ASE's minimize_rotation_and_translation
+    (ASE from PyPI) and below the unaligned RMSD."""
+    import numpy as np
+    from scipy.spatial.transform import Rotation
+
+    from dossier.report.structure_figure import common_frame
+    from dossier.science.geometry import rmsd
+    from tests.dinitro_geometry import dinitrobenzene
+
+    els, a, _ = dinitrobenzene({"nitro_a": (1.40, 1.27), "nitro_b": (1.47, 1.22)})
+    _, b, _ = dinitrobenzene({"nitro_a": (1.47, 1.22), "nitro_b": (1.40, 1.27)})
+    turned = Rotation.from_euler("zyx", [40, 25, -70], degrees=True).apply(np.asarray(b)) + [3.0, -1.0, 2.0]
+    states = [{"name": "min_a", "elements": els, "coordinates_angstrom": a},
+              {"name": "min_b", "elements": els, "coordinates_angstrom": turned.tolist()}]
+    coords, axes, rms = common_frame(states)
+    unaligned = rmsd(turned, a)
+    assert rms["min_b"] < unaligned and axes.shape == (3, 3)
+    ase = pytest.importorskip("ase")
+    from ase.build import minimize_rotation_and_translation
+
+    target, mobile = ase.Atoms(els, positions=a), ase.Atoms(els, positions=turned)
+    minimize_rotation_and_translation(target, mobile)
+    assert rms["min_b"] == pytest.approx(rmsd(mobile.positions, a), abs=1e-6)
+    assert np.allclose(coords["min_b"], mobile.positions, atol=1e-6)

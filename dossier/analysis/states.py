@@ -98,6 +98,7 @@ def _state_entry(ctx, st) -> dict:
         "files": st.files, "program": g.program, "program_version": g.program_version,
         "level_of_theory": g.level.label(), "status": {part: rec.status.word for part, rec in st.records()},
         "energies_hartree": energies, "s2": g.s2, "s2_ideal": g.s2_ideal,
+        "atom_spin_populations": {k: [float(x) for x in v] for k, v in sorted(g.spin_populations.items())},
         "frequencies": freq, "thermo": thermo, "printed_thermo": printed,
         "excited_states": excited,
         "excited_states_file": p.label(st.excited_states) if st.excited_states is not None else None,

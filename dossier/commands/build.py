@@ -8,6 +8,8 @@ nothing is written and the errors are printed (``--draft`` builds anyway: every 
 """
 from __future__ import annotations
 
+import argparse
+
 import sys
 
 from dossier.errors import ChecksFailed
@@ -26,7 +28,8 @@ def add_arguments(parser) -> None:
     parser.add_argument("--templates", metavar="DIR", default=None,
                         help="folder of templates overriding the built-in ones (rendered sandboxed)")
     parser.add_argument("--png", action="store_true", help="also write every figure as PNG under figures/")
-    parser.add_argument("--number-atoms", action="store_true", help="number the atoms in the structure drawings")
+    parser.add_argument("--number-atoms", action=argparse.BooleanOptionalAction, default=True,
+                        help="number the atoms in the structure drawings (default: on)")
     parser.add_argument("--jobs", type=int, default=None, metavar="N", help="parallel readers (default: all cores)")
     parser.add_argument("--no-cache", action="store_true", help="re-read every output file instead of using the cache")
     parser.add_argument("--quiet", action="store_true",

@@ -195,7 +195,7 @@ def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_d
 
 def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_FORMATS, templates_dir=None,
                   jobs: int | None = None, use_cache: bool = True, progress: Progress | None = None,
-                  png: bool = False, numbered_atoms: bool = False, draft: bool = False) -> BuildResult:
+                  png: bool = False, numbered_atoms: bool = True, draft: bool = False) -> BuildResult:
     """Build the dossier of ``manifest_path`` into ``out_dir`` (default: ``dossier-build`` beside it).
 
     ``formats``: any of html, pdf, json, csv, xyz, tex, bib. ``templates_dir``: a folder whose

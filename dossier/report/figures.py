@@ -21,7 +21,6 @@ import matplotlib
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
-from matplotlib.patches import Circle
 
 from dossier import units
 
@@ -450,53 +449,42 @@ def bonds(elements: list[str], coords: np.ndarray) -> list[tuple[int, int]]:
     return out
 
 
-@_with_rc
-def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool = False) -> Figure:
-    """Ball-and-stick projection on the structure's best plane; site atoms filled and hatched.
+def structure_figure(state: dict, sites: dict[str, list[int]], *, numbered: bool = True) -> Figure:
+    """One state drawn alone in its own principal plane (dossier.report.structure_figure)."""
+    from dossier.report.structure_figure import structure_drawing
 
-    ``sites`` are 1-based atom numbers, as in the manifest.
-    """
-    els = state["elements"]
-    xyz = np.asarray(state["coordinates_angstrom"], dtype=float)
-    vt = projection_axes(xyz)
-    p = (xyz - xyz.mean(axis=0)) @ vt.T
-    site_of: dict[int, int] = {}
-    site_names = list(sites)
-    for k, name in enumerate(site_names):
-        for a in sites[name]:
-            site_of.setdefault(a - 1, k)
-    span = np.ptp(p[:, :2], axis=0) if len(p) else np.ones(2)
-    w = 3.2 + 2.6 * min(max(span[0], 1.0) / max(span[1], 1.0), 2.0) / 2.0
-    fig = _figure(min(w, 6.2), 3.3)
-    ax = fig.add_subplot()
-    ax.set_aspect("equal")
-    ax.axis("off")
-    for i, j in sorted(bonds(els, xyz), key=lambda b: min(p[b[0], 2], p[b[1], 2])):
-        ax.plot([p[i, 0], p[j, 0]], [p[i, 1], p[j, 1]], color="#3a3a3a", linewidth=1.6, solid_capstyle="round",
-                zorder=2 + (p[i, 2] + p[j, 2]) / 200.0)
-    for i in np.argsort(p[:, 2], kind="stable"):
-        r = (0.16 if els[i] == "H" else 0.3)
-        k = site_of.get(int(i))
-        face = "#ffffff" if k is None else _FILLS[(k + 1) % len(_FILLS)]
-        hatch = None if k is None else _HATCHES[(k + 1) % len(_HATCHES)]
-        ax.add_patch(Circle((p[i, 0], p[i, 1]), r, facecolor=face, edgecolor="#111111", hatch=hatch, linewidth=0.8,
-                            zorder=3 + p[i, 2] / 100.0 + 1.0))
-        label = f"{els[i]}{i + 1}" if numbered else (els[i] if els[i] != "H" and els[i] != "C" else "")
-        if label:
-            ax.text(p[i, 0], p[i, 1] + (0.0 if not numbered else r + 0.12), label, ha="center",
-                    va="center" if not numbered else "bottom", fontsize=6 if numbered else 7, zorder=10,
-                    bbox=dict(boxstyle="round,pad=0.12", facecolor="white", edgecolor="none", alpha=0.85))
-    if len(p):
-        ax.set_xlim(p[:, 0].min() - 0.7, p[:, 0].max() + 0.7)
-        ax.set_ylim(p[:, 1].min() - 0.7, p[:, 1].max() + 0.9)
-    handles = [Circle((0, 0), 0.2, facecolor=_FILLS[(k + 1) % len(_FILLS)], edgecolor="#111111", hatch=_HATCHES[(k + 1) % len(_HATCHES)])
-               for k in range(len(site_names))]
-    if handles:
-        ax.legend(handles, [_t(n) for n in site_names], fontsize=7, loc="lower right", ncols=min(len(site_names), 3), handlelength=1.2)
-    return fig
+    return structure_drawing(state, sites, numbered=numbered)
 
 
 # -- the whole set ------------------------------------------------------------------------
+
+def _add_structures(data: dict, add, numbered_atoms: bool) -> None:
+    """Structure drawings of every state in one frame (dossier.report.structure_figure)."""
+    from dossier.report.structure_figure import common_frame, structure_drawing
+
+    sites = sites_of(data)
+    states = data.get("states", [])
+    coords, axes, rms = common_frame(states)
+    scheme = data["report"]["population_scheme"]
+    proj = [(c - c.mean(axis=0)) @ axes.T for c in coords.values()] if axes is not None else []
+    extent = None
+    if proj:
+        allp = np.vstack(proj)
+        extent = (allp[:, 0].min() - 1.0, allp[:, 0].max() + 1.0, allp[:, 1].min() - 1.0, allp[:, 1].max() + 1.1)
+    for n, st in enumerate(states):
+        if st["name"] not in coords:
+            continue
+        spin = (st.get("atom_spin_populations") or {}).get(scheme or "")
+        frame = (f"superposed on the first state (Kabsch, RMSD {rms[st['name']]:.3f} Å) and drawn in its principal plane"
+                 if st["name"] in rms else "in its own principal plane (its atoms differ from the first state's)")
+        add(structure_drawing(st, sites, coords=coords[st["name"]], axes=axes if st["name"] in rms else None,
+                              spin=spin, numbered=numbered_atoms, extent=extent if st["name"] in rms else None),
+            f"structure-{n}", "states", f"Structure of {st['name']}",
+            f"State {st['name']} {frame}; atoms of each site hatched"
+            + (", atoms numbered as in the coordinate table" if numbered_atoms else "")
+            + (f"; halos: spin population of each atom ({scheme} scheme)" if spin else "") + ".",
+            {"state": st["name"]})
+
 
 def profile_series(profile: dict):
     from dossier.report.profile_figure import profile_series as series
@@ -508,7 +496,7 @@ def sites_of(data: dict) -> dict[str, list[int]]:
     return dict((data.get("project") or {}).get("sites") or {})
 
 
-def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False) -> list[FigureOut]:
+def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = True) -> list[FigureOut]:
     """Every figure the dossier shows, in document order."""
     unit = data.get("project", {}).get("energy_unit", "kJ/mol")
     t_ref = report_temperature(data)
@@ -581,11 +569,5 @@ def make_figures(data: dict, *, png: bool = False, numbered_atoms: bool = False)
                 "Coupling H_ab by route (markers) with the exponential fit (lines); right: golden-rule rate with "
                 "lambda = lambda_in + lambda_out (crosses: the golden-rule formula is outside its range or cannot be judged there).",
                 {"transfer": tr["name"]})
-    sites = sites_of(data)
-    for n, st in enumerate(data.get("states", [])):
-        if st.get("elements") and st.get("coordinates_angstrom"):
-            add(structure_figure(st, sites, numbered=numbered_atoms), f"structure-{n}", "states", f"Structure of {st['name']}",
-                f"Structure of state {st['name']} projected on its best plane; atoms of each site are filled and hatched"
-                + (", atoms numbered as in the coordinate table." if numbered_atoms else "."),
-                {"state": st["name"]})
+    _add_structures(data, add, numbered_atoms)
     return out
