@@ -105,7 +105,7 @@ def ladder_rows(data: dict, pw: dict) -> list[dict]:
             "localization_index": loc, "robin_day_class": pw.get("robin_day_class") if own else None, "own": own,
             "headline": pw.get("headline_rate") if own else None,
             "headline_reason": pw.get("headline_reason") if own else None,
-            "rates_at_t": at_t, "notes": rung.get("notes") or [],
+            "rates_at_t": at_t, "rates": rates, "notes": rung.get("notes") or [],
         })
     return rows
 
