@@ -113,6 +113,10 @@ REFERENCES: dict[str, dict[str, str]] = {
                     "journal": "Phys. Chem. Chem. Phys.", "year": "2017", "volume": "19", "pages": "32184--32215", "doi": "10.1039/C7CP04913G"},
     "zhao2005": {"type": "article", "author": "Zhao, Y. and Gonz{\\'a}lez-Garc{\\'i}a, N. and Truhlar, D. G.", "title": "Benchmark database of barrier heights for heavy atom transfer, nucleophilic substitution, association, and unimolecular reactions and its use to test theoretical methods",
                  "journal": "J. Phys. Chem. A", "year": "2005", "volume": "109", "pages": "2012--2018", "doi": "10.1021/jp045141s"},
+    "pollak1978": {"type": "article", "author": "Pollak, E. and Pechukas, P.", "title": "Symmetry numbers, not statistical factors, should be used in absolute rate theory and in {Br{\\o}nsted} relations",
+                   "journal": "J. Am. Chem. Soc.", "year": "1978", "volume": "100", "pages": "2984--2991", "doi": "10.1021/ja00478a009"},
+    "fernandez2007": {"type": "article", "author": "Fern{\\'a}ndez-Ramos, A. and Ellingson, B. A. and Meana-Pa{\\~n}eda, R. and Marques, J. M. C. and Truhlar, D. G.", "title": "Symmetry numbers and chemical reaction rates",
+                      "journal": "Theor. Chem. Acc.", "year": "2007", "volume": "118", "pages": "813--826", "doi": "10.1007/s00214-007-0328-0"},
     "jacquemin2009": {"type": "article", "author": "Jacquemin, D. and Wathelet, V. and Perp{\\`e}te, E. A. and Adamo, C.", "title": "Extensive {TD-DFT} benchmark: singlet-excited states of organic molecules",
                       "journal": "J. Chem. Theory Comput.", "year": "2009", "volume": "5", "pages": "2420--2435", "doi": "10.1021/ct900298e"},
 
@@ -178,6 +182,8 @@ TEXT_CITATIONS: list[tuple[str, str]] = [
     (r"Zhao, Gonzalez-Garcia &(?:amp;)? Truhlar(?:, J\. Phys\. Chem\. A)? 2005(?:, 109, 2012)?", "zhao2005"),
     (r"Bannwarth, Ehlert &(?:amp;)? Grimme, J\. Chem\. Theory Comput\. 2019, 15, 1652", "gfn2"),
     (r"Jacquemin et al\., J\. Chem\. Theory Comput\. 2009, 5, 2420", "jacquemin2009"),
+    (r"Pollak &(?:amp;)? Pechukas(?:, J\. Am\. Chem\. Soc\.)? 1978(?:, 100, 2984)?", "pollak1978"),
+    (r"Fern(?:a|á)ndez-Ramos et al\.(?:, Theor\. Chem\. Acc\.)? 2007(?:, 118, 813)?", "fernandez2007"),
 ]
 CITATION_RE = re.compile("|".join(f"(?P<c{i}>{p})" for i, (p, _) in enumerate(TEXT_CITATIONS)))
 
@@ -220,7 +226,8 @@ def _inline_citations(data: dict):
         for text, _ in _strings(pw.get("experiment") or {}, "experiment"):
             for key in citation_keys(text):
                 yield key, "analysis of the measurements"
-        for text, _ in _strings({k: pw.get(k) for k in ("rates_unavailable", "ladder", "robin_day", "normal_mode")}, ""):
+        for text, _ in _strings({k: pw.get(k) for k in ("rates_unavailable", "ladder", "robin_day", "normal_mode",
+                                                         "symmetric_transfer")}, ""):
             for key in citation_keys(text):
                 yield key, f"pathway {pw.get('name')}"
     for text, _ in _strings(data.get("uncertainty") or {}, ""):
