@@ -91,10 +91,12 @@ def _spin_from_text(rel: str) -> list[float]:
 
 
 def test_every_output_is_listed():
-    """The README's table (EXPECTED) and the folder hold the same outputs."""
+    """The README's table (EXPECTED) and the folder hold the same outputs (the second demo study,
+    example_outputs/stacked_dimer/, has its own README and is not part of this one)."""
     if not DEMO.exists():
         pytest.skip("example_outputs/ absent")
-    on_disk = sorted(str(p.relative_to(DEMO)) for p in DEMO.rglob("*.out"))
+    on_disk = sorted(str(p.relative_to(DEMO)) for p in DEMO.rglob("*.out")
+                     if p.relative_to(DEMO).parts[0] != "stacked_dimer")
     assert on_disk == sorted(EXPECTED)
 
 
