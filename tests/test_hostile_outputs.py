@@ -258,6 +258,15 @@ def test_css_escapes_do_not_hide_an_outside_url(cut_build, tmp_path, css):
         render_html(cut_build.data, [], templates_dir=tmp_path)
 
 
+def test_a_pipe_among_the_user_templates_is_refused_not_waited_on(cut_build, tmp_path):
+    from dossier.report.render import render_html
+
+    os.mkfifo(tmp_path / "style.css")
+    with deadline(30):
+        with pytest.raises(DossierError, match="named pipe"):
+            render_html(cut_build.data, [], templates_dir=tmp_path)
+
+
 def test_a_user_template_without_the_policy_gets_it(cut_build, tmp_path):
     from dossier.report.containment import CSP_META
     from dossier.report.render import render_html

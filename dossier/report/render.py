@@ -28,6 +28,7 @@ from markupsafe import Markup
 from dossier.science.localization import DELOCALIZED_INDEX
 from dossier import __version__, units
 from dossier.errors import BuildError
+from dossier.reading.files import refuse_special
 from dossier.report.containment import (  # noqa: F401 (CSP, CSP_META, css_references, outside_references re-exported)
     CSP, CSP_META, css_references, embed_local_images, outside_references, with_csp,
 )
@@ -174,6 +175,8 @@ def make_environment(templates_dir: Path | None = None) -> SandboxedEnvironment:
         templates_dir = Path(templates_dir)
         if not templates_dir.is_dir():
             raise BuildError("template folder does not exist", where=str(templates_dir))
+        for entry in sorted(templates_dir.rglob("*")):  # a pipe named style.css would block the render
+            refuse_special(entry, BuildError, "template file")
         loaders.append(jinja2.FileSystemLoader(str(templates_dir)))
     loaders.append(jinja2.FileSystemLoader(str(TEMPLATES_DIR)))
     env = SandboxedEnvironment(loader=jinja2.ChoiceLoader(loaders), autoescape=True,
