@@ -313,3 +313,16 @@ def test_routes_that_disagree_are_pointed_out(study):
     # 900 vs 300 cm-1 at 3.6 A: a factor 3 (> 2); the other separations have one route each
     said = [s for s in tr["statements"] if "disagree" in s]
     assert len(said) == 1 and "factor of 3.0" in said[0] and "R = 3.60 A" in said[0] and "electron" in said[0]
+
+
+def test_a_nuclear_frequency_lets_the_golden_rule_be_judged(study):
+    base = '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n'
+    plain = analyse(load_project(_write(study, base + FOUR_POINT + VALUES)))["transfers"][0]
+    assert all(not r["validity"]["judged"] for r in plain["rates"])
+    assert "nuclear_frequency_cm1" in plain["rates"][0]["verdict"]
+    given = base + 'nuclear_frequency_cm1 = 1350.0\nnuclear_frequency_source = "NO2 stretch, common practice"\n'
+    tr = analyse(load_project(_write(study, given + FOUR_POINT + VALUES)))["transfers"][0]
+    lz = [c for r in tr["rates"] for c in r["validity"]["criteria"] if c["criterion"] == "nonadiabatic_passage"]
+    assert len(lz) == 3 and all(c["holds"] is not None for c in lz)  # Landau-Zener judged at every point
+    # the weakest coupling (35 cm-1) is the most nonadiabatic: smallest Landau-Zener parameter (Newton & Sutin 1984)
+    assert lz[-1]["value"] < lz[0]["value"]

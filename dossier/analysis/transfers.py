@@ -258,6 +258,9 @@ def _solvent_entry(project, tr, separations: list[float]) -> dict | None:
     return entry
 
 
+_NO_MODE_TEXT = "(the reactant has no frequency job with normal modes that project onto the product)"
+
+
 def _rates(tr, points: list[dict], lam: dict | None, dg: dict | None, sol: dict | None, t: float) -> list[dict]:
     """Golden-rule (nonadiabatic Marcus) rate at each coupling point, with lambda_in + lambda_out."""
     if lam is None or dg is None:
@@ -271,7 +274,9 @@ def _rates(tr, points: list[dict], lam: dict | None, dg: dict | None, sol: dict 
         rate = marcus.marcus_nonadiabatic_rate_per_s(p["value_cm1"], lam_total, dg["value_kj_mol"], t)
         tst = marcus.eyring_rate_per_s(marcus.marcus_barrier_kj_mol(lam_total, dg["value_kj_mol"]), t)
         kappa = rate / tst if tst > 0 else None
-        v = applicability.golden_rule_verdict(p["value_cm1"], lam_total, t, None, kappa)
+        v = applicability.golden_rule_verdict(p["value_cm1"], lam_total, t, tr.nuclear_frequency_cm1, kappa)
+        if tr.nuclear_frequency_cm1 is None:  # say what a transfer can add to be judged
+            v["note"] = v["note"].replace(_NO_MODE_TEXT, "(give nuclear_frequency_cm1 and its source in the transfer)")
         ratio = next(c["value"] for c in v["criteria"] if c["criterion"] != "nonadiabatic_passage")
         where = (f"the {tr.carrier or 'charge'} is shared by both molecules (Robin-Day class III): no hopping rate "
                  "applies; " if ratio is not None and ratio >= applicability.MAX_COUPLING_RATIO else "")
@@ -352,6 +357,8 @@ def transfer_entry(project, tr, temperature_k: float) -> dict:
                           tr.driving_force != "symmetry" else "zero by symmetry", "rungs": dg_rungs, "quoted": dg},
         "couplings": points, "scans": scans, "solvent": sol,
         "rates": _rates(tr, points, lam, dg, sol, temperature_k), "missing": missing,
+        "nuclear_frequency": ({"value_cm1": tr.nuclear_frequency_cm1, "source": tr.nuclear_frequency_source}
+                              if tr.nuclear_frequency_cm1 is not None else None),
         "statements": _statements(tr, lam, dg, scans, points),
     }
 

@@ -24,7 +24,8 @@ DRIVING_FORCE_SOURCES = ("symmetry", "fragments", "states")
 #: Coupling routes a transfer can list.
 COUPLING_ROUTES = ("charge-resonance", "orbital-splitting", "gmh", "value")
 _TRANSFER_KEYS = ("name", "donor_site", "acceptor_site", "driving_force", "initial_state", "final_state",
-                  "four_point", "donor_four_point", "acceptor_four_point", "couplings", "solvent", "note")
+                  "four_point", "donor_four_point", "acceptor_four_point", "couplings", "solvent",
+                  "nuclear_frequency_cm1", "nuclear_frequency_source", "note")
 _COUPLING_KEYS = ("route", "file", "root", "dipole_difference_au", "dipole_difference_source", "coupling_cm1",
                   "separation_angstrom", "source", "note")
 _SOLVENT_KEYS = ("name", "refractive_index", "static_dielectric", "source", "donor_radius_angstrom",
@@ -71,6 +72,8 @@ class TransferSpec:
     acceptor_four_point: dict[str, dict[str, Path]] = field(default_factory=dict)
     couplings: list[CouplingSpec] = field(default_factory=list)
     solvent: SolventSpec | None = None
+    nuclear_frequency_cm1: float | None = None
+    nuclear_frequency_source: str | None = None
     note: str | None = None
     key: tuple = ()
 
@@ -94,6 +97,8 @@ class Transfer:
     initial_state: str | None = None
     final_state: str | None = None
     solvent: SolventSpec | None = None
+    nuclear_frequency_cm1: float | None = None
+    nuclear_frequency_source: str | None = None
     note: str | None = None
 
 
@@ -228,6 +233,11 @@ def _transfer(tr: Any, i: int, v, refs, files) -> TransferSpec:
         raise v.fail(key + ("couplings",), "couplings must be an array of tables: write each as [[transfers.couplings]]")
     spec.couplings = [_coupling(c, key + ("couplings", j), v, files) for j, c in enumerate(raw_c)]
     spec.solvent = _solvent(tr, key, v)
+    if "nuclear_frequency_cm1" in tr:
+        spec.nuclear_frequency_cm1 = v.number(tr, key + ("nuclear_frequency_cm1",), 0.0, positive=True)
+        spec.nuclear_frequency_source = v.string(tr, key + ("nuclear_frequency_source",), required=True)
+    elif "nuclear_frequency_source" in tr:
+        raise v.fail(key + ("nuclear_frequency_source",), "nuclear_frequency_source goes with nuclear_frequency_cm1")
     return spec
 
 
@@ -353,7 +363,8 @@ def bind_transfer(m, spec: TransferSpec, by_path: dict[Path, Calculation]) -> Tr
                     set_files={"donor": labels(donor_paths), "acceptor": labels(acceptor_paths)},
                     couplings=couplings, donor_site=spec.donor_site, acceptor_site=spec.acceptor_site,
                     initial_state=spec.initial_state, final_state=spec.final_state, solvent=spec.solvent,
-                    note=spec.note)
+                    nuclear_frequency_cm1=spec.nuclear_frequency_cm1,
+                    nuclear_frequency_source=spec.nuclear_frequency_source, note=spec.note)
 
 
 def bind_transfers(m, by_path: dict[Path, Calculation]) -> list[Transfer]:
