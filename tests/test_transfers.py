@@ -326,3 +326,21 @@ def test_a_nuclear_frequency_lets_the_golden_rule_be_judged(study):
     assert len(lz) == 3 and all(c["holds"] is not None for c in lz)  # Landau-Zener judged at every point
     # the weakest coupling (35 cm-1) is the most nonadiabatic: smallest Landau-Zener parameter (Newton & Sutin 1984)
     assert lz[-1]["value"] < lz[0]["value"]
+
+
+def test_transfer_results_validate_against_the_schema(study):
+    import json
+
+    import jsonschema
+
+    from dossier.report.build import build_dossier
+    from dossier.schema import load_schema
+
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT + VALUES
+                  + '\n[transfers.solvent]\nname = "acetonitrile"\n')
+    build_dossier(path, study / "out", formats=("json",))
+    data = json.loads((study / "out" / "dossier.json").read_text())
+    jsonschema.Draft202012Validator(load_schema()).validate(data)  # jsonschema: the shipped schema holds
+    broken = json.loads(json.dumps(data))
+    broken["transfers"][0]["carrier"] = "positron"
+    assert list(jsonschema.Draft202012Validator(load_schema()).iter_errors(broken))  # and it can fail
