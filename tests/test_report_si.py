@@ -5,6 +5,7 @@ and references.bib back, so they test what a reader gets, not the view model.
 """
 from __future__ import annotations
 
+import html as html_mod
 import re
 import unicodedata
 
@@ -99,3 +100,72 @@ def test_states_are_drawn_in_one_frame_and_aligned_rmsd_is_below_the_unaligned()
     minimize_rotation_and_translation(target, mobile)
     assert rms["min_b"] == pytest.approx(rmsd(mobile.positions, a), abs=1e-6)
     assert np.allclose(coords["min_b"], mobile.positions, atol=1e-6)
+
+
+def _numbers_in_json(value, out: set[tuple[float, int]] | None = None) -> list[float]:
+    """Every number in dossier.json: numeric values and numbers written inside its strings."""
+    found: list[float] = []
+
+    def walk(v):
+        if isinstance(v, bool):
+            return
+        if isinstance(v, (int, float)):
+            found.append(float(v))
+        elif isinstance(v, str):
+            found.extend(float(m.replace("\u2212", "-")) for m in re.findall(r"[-\u2212]?\d+(?:\.\d+)?(?:e[-+]?\d+)?", v))
+        elif isinstance(v, dict):
+            for x in v.values():
+                walk(x)
+        elif isinstance(v, list):
+            for x in v:
+                walk(x)
+    walk(value)
+    return found
+
+
+_QUOTED = re.compile(r"(?<![\w/.^\u2212-])([\u2212-]?\d+(?:\.\d+)?)(?: × 10\^([\u2212-]?\d+))?(?![\w.^/-])")
+
+
+def _quoted_numbers(html_text: str) -> list[tuple[float, int, int | None]]:
+    """(value, decimals, power of ten or None) of every number a reader sees on the page."""
+    body = re.sub(r"(?s)<style.*?</style>|<head.*?</head>", "", html_text)
+    body = re.sub(r"<sup>([^<]*)</sup>", r"^\1", body)
+    text = html_mod.unescape(re.sub(r"<[^>]+>", " ", body))
+    out = []
+    for m in _QUOTED.finditer(text):
+        mant = m.group(1).replace("\u2212", "-")
+        dec = len(mant.split(".")[1]) if "." in mant else 0
+        out.append((float(mant), dec, int(m.group(2).replace("\u2212", "-")) if m.group(2) else None))
+    return out
+
+
+@pytest.mark.slow
+def test_every_number_in_the_collaborator_summary_is_in_dossier_json(demo_build):
+    import json
+
+    data = json.loads((demo_build / "dossier.json").read_text(encoding="utf-8"))
+    page = (demo_build / "summary.html").read_text(encoding="utf-8")
+    pool = _numbers_in_json(data)
+    quoted = _quoted_numbers(page)
+    assert len(quoted) > 20  # the page does quote numbers (rates, energies, temperatures)
+    conventions = {68.0, 95.0}  # interval levels, a convention of the report, not a result
+    missing = []
+    for value, dec, power in quoted:
+        if power is None and value in conventions:
+            continue
+        if power is None:
+            ok = any(round(x, dec) == value for x in pool)
+        else:  # "m.m × 10^n": two significant digits
+            ok = any(x > 0 and round(x / 10**power, dec) == value for x in pool)
+        if not ok:
+            missing.append((value, power))
+    assert not missing, missing
+
+
+@pytest.mark.slow
+def test_collaborator_summary_is_two_pages(demo_build):
+    pypdf = pytest.importorskip("pypdf")
+    reader = pypdf.PdfReader(str(demo_build / "summary.pdf"))
+    assert len(reader.pages) <= 2
+    text = "\n".join(p.extract_text() or "" for p in reader.pages)
+    assert "Glossary" in text and not [t for t in ASCII_MATH if t in text]

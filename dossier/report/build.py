@@ -180,13 +180,16 @@ def _write_pages(data: dict, tmp: Path, formats: tuple[str, ...], *, templates_d
         t0 = time.perf_counter()
         say("rendering HTML")
         html_text = render.render_html(data, figs, templates_dir=templates_dir, cited=cited)
+        summary_text = render.render_html(data, figs, templates_dir=templates_dir, template="collaborator.html")
         if "html" in formats:
             written["dossier.html"] = exports.write_atomic(tmp / "dossier.html", html_text)
+            written["summary.html"] = exports.write_atomic(tmp / "summary.html", summary_text)
         timings["html"] = time.perf_counter() - t0
         if "pdf" in formats:
             t0 = time.perf_counter()
             say("rendering PDF (the slowest step)")
             written["dossier.pdf"] = render.write_pdf(html_text, tmp / "dossier.pdf", tmp)
+            written["summary.pdf"] = render.write_pdf(summary_text, tmp / "summary.pdf", tmp)
             timings["pdf"] = time.perf_counter() - t0
     return written
 

@@ -34,7 +34,7 @@ from dossier.report.containment import (  # noqa: F401 (CSP, CSP_META, css_refer
 )
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
-from dossier.report import trace
+from dossier.report import collaborator, trace
 from dossier.report.typeset import (MINUS, Citer, fmt_log10_interval, fmt_power, fmt_temperature, fmt_wavenumber,
                                     typeset)
 
@@ -454,18 +454,21 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "dossier_version": __version__, "carrier_word": carrier,
         "ladder_rows": lambda pw: trace.ladder_rows(data, pw),
         "references_scf": trace.reference_rows(data), "ts_rows": trace.transition_state_rows(data),
+        "collaborator": {"pathways": [collaborator.pathway_facts(data, pw) for pw in data.get("pathways", [])],
+                         "glossary": collaborator.glossary(data, trace.site_rows(data))},
         "site_table": trace.site_rows(data), "recipes": trace.recipe_rows(data), "fragments": trace.fragments(data),
     }
 
 
 def render_html(data: dict, figures: list[FigureOut], *, templates_dir: Path | None = None,
-                cited: list[str] | None = None) -> str:
+                cited: list[str] | None = None, template: str = "base.html") -> str:
     """The whole dossier as one self-contained HTML page (raises BuildError on outside references).
-    ``cited`` (a list) receives the bibliography keys in the order the page numbers them."""
+    ``cited`` (a list) receives the bibliography keys in the order the page numbers them;
+    ``template`` "collaborator.html" gives the two-page summary for experimental collaborators."""
     env = make_environment(templates_dir)
     ctx = context(data, figures)
     try:
-        text = env.get_template("base.html").render(**ctx)
+        text = env.get_template(template).render(**ctx)
         if cited is not None:
             cited[:] = [r["key"] for r in ctx["citer"].bibliography()]
     except jinja2.TemplateNotFound as exc:
