@@ -344,3 +344,20 @@ def test_transfer_results_validate_against_the_schema(study):
     broken = json.loads(json.dumps(data))
     broken["transfers"][0]["carrier"] = "positron"
     assert list(jsonschema.Draft202012Validator(load_schema()).iter_errors(broken))  # and it can fail
+
+
+def test_demo_charge_resonance_root_and_value():
+    tr = _demo_transfer()
+    cr = [c for c in tr["couplings"] if c["route"] == "charge-resonance"]
+    assert len(cr) >= 3
+    for c in cr:
+        text = open(demo_path("stacked_dimer") / c["provenance"]["files"][0]).read()
+        # the log's own printed root energies (a.u.) and x transition moments (x: the stacking axis)
+        roots = re.findall(r"Root\s+(\d+)\s+\S+\s+([\d.]+) a\.u\.", text)
+        moments = [abs(float(x)) for x in re.findall(r"Transition Moments\s+X\s+(\S+)", text)]
+        strongest_x = max(range(len(moments)), key=lambda i: moments[i])
+        assert c["root"] == int(roots[strongest_x][0])  # the root polarized along the stack (Badger & Brocklehurst)
+        gap_cm1 = float(roots[strongest_x][1]) * sc.physical_constants["hartree-inverse meter relationship"][0] / 100
+        # H_ab = E_CR / 2; the record keeps the log's eV column (4 decimals), hence 1e-4
+        assert c["value_cm1"] == pytest.approx(gap_cm1 / 2, rel=1e-4)
+        assert c["provenance"]["level_of_theory"].startswith("TDDFT/TDA ")  # NWChem's "Tamm-Dancoff TDDFT"

@@ -136,9 +136,11 @@ def _requested(calc, text: str) -> None:
         if method:
             calc.level.method = method + (pert.group(1) if pert and method == "CCSD" else "")
             calc.level.functional = None
-    td = re.search(r"TDDFT Information\s*\n\s*-+\s*\n\s*Calculation type : (\w+)", text)
-    if td:
-        calc.level.excited_method = {"TDDFT": "TDDFT", "TDA": "TDDFT/TDA", "CIS": "CIS", "RPA": "TDHF"}.get(td.group(1), td.group(1))
+    td = re.search(r"TDDFT Information\s*\n\s*-+\s*\n\s*Calculation type : ([^\n]*?)\s*\n", text)
+    if td:  # NWChem 7 prints e.g. "TDDFT" or "Tamm-Dancoff TDDFT" (keyword cis)
+        kind = td.group(1)
+        calc.level.excited_method = {"TDDFT": "TDDFT", "TDA": "TDDFT/TDA", "Tamm-Dancoff TDDFT": "TDDFT/TDA", "CIS": "CIS",
+                                     "RPA": "TDHF"}.get(kind, kind)
 
 
 class _Printed(float):
