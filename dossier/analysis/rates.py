@@ -154,10 +154,13 @@ def _arrhenius(ctx, pw, inp_for: Callable[[list[float]], _RateInputs]) -> list[d
     inp = inp_for(temps)
     out = []
     for model in MODELS:
-        ks = []
+        ks, invalid = [], []
         try:
             for t in temps:
-                ks.append(_rate_entry(model, t, inp)["rate_per_s"])
+                e = _rate_entry(model, t, inp)
+                ks.append(e["rate_per_s"])
+                if not e["validity"]["valid"]:
+                    invalid.append(f"{t:.2f} K: {e['validity']['note']}")
         except _Unavailable:
             continue
         try:
@@ -166,7 +169,9 @@ def _arrhenius(ctx, pw, inp_for: Callable[[list[float]], _RateInputs]) -> list[d
             continue
         fit.update({"model": model, "local": local,
                     "note": (f"local slope from {temps[0]:.2f}-{temps[-1]:.2f} K (the project has one temperature)"
-                             if local else "least squares of ln k against 1/T over the project temperatures")})
+                             if local else "least squares of ln k against 1/T over the project temperatures"),
+                    "validity": {"valid": not invalid,
+                                 "note": "; ".join(invalid) if invalid else "the model is valid at every temperature of the fit"}})
         out.append(fit)
     return out
 
