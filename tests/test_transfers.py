@@ -361,3 +361,14 @@ def test_demo_charge_resonance_root_and_value():
         # H_ab = E_CR / 2; the record keeps the log's eV column (4 decimals), hence 1e-4
         assert c["value_cm1"] == pytest.approx(gap_cm1 / 2, rel=1e-4)
         assert c["provenance"]["level_of_theory"].startswith("TDDFT/TDA ")  # NWChem's "Tamm-Dancoff TDDFT"
+
+
+def test_transfer_literature_is_numbered_in_the_bibliography(study):
+    path = _write(study, '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n' + FOUR_POINT + VALUES
+                  + '\n[transfers.solvent]\nname = "acetonitrile"\n')
+    data = analyse(load_project(path))
+    keys = [w["key"] for w in data["report"]["cited_works"]]
+    assert {"nelsen", "marcus1956", "bondi1964"} <= set(keys)  # four-point, two-sphere model, radii
+    html_text = render_html(data, [])
+    section = html_text[html_text.index('id="transfers"'):html_text.index("</section>", html_text.index('id="transfers"'))]
+    assert 'class="cite"' in section and "1956, 24, 966" not in section  # inline literature became [n]

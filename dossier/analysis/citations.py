@@ -89,6 +89,16 @@ REFERENCES: dict[str, dict[str, str]] = {
                 "journal": "J. Chem. Phys.", "year": "1976", "volume": "64", "pages": "4860--4867", "doi": "10.1063/1.432142"},
     "two_state": {"type": "article", "author": "Brunschwig, B. S. and Creutz, C. and Sutin, N.", "title": "Optical transitions of symmetrical mixed-valence systems in the {Class II--III} transition regime",
                   "journal": "Chem. Soc. Rev.", "year": "2002", "volume": "31", "pages": "168--184", "doi": "10.1039/b008034i"},
+    # Transfers between molecules (dossier/analysis/transfers.py): coupling routes, radii (from memory)
+    "newton1991": {"type": "article", "author": "Newton, M. D.", "title": "Quantum chemical probes of electron-transfer kinetics: the nature of donor--acceptor interactions",
+                   "journal": "Chem. Rev.", "year": "1991", "volume": "91", "pages": "767--792", "doi": "10.1021/cr00005a007"},
+    "bredas2004": {"type": "article", "author": "Br{\\'e}das, J.-L. and Beljonne, D. and Coropceanu, V. and Cornil, J.",
+                   "title": "Charge-transfer and energy-transfer processes in {$\\pi$}-conjugated oligomers and polymers: a molecular picture",
+                   "journal": "Chem. Rev.", "year": "2004", "volume": "104", "pages": "4971--5004", "doi": "10.1021/cr040084k"},
+    "koopmans1934": {"type": "article", "author": "Koopmans, T.", "title": "{\\\"U}ber die {Z}uordnung von {W}ellenfunktionen und {E}igenwerten zu den einzelnen {E}lektronen eines {A}toms",
+                     "journal": "Physica", "year": "1934", "volume": "1", "pages": "104--113", "doi": "10.1016/S0031-8914(34)90011-2"},
+    "bondi1964": {"type": "article", "author": "Bondi, A.", "title": "van der {W}aals volumes and radii",
+                  "journal": "J. Phys. Chem.", "year": "1964", "volume": "68", "pages": "441--451", "doi": "10.1021/j100785a001"},
     # Added for the works the analysis cites inline (formulas, route reasons, uncertainty sources) and
     # for program versions; all recalled from memory (authors, title, journal, volume, pages, DOI).
     "psi4_11": {"type": "article", "author": "Parrish, R. M. and Burns, L. A. and Smith, D. G. A. and others", "title": "{Psi4} 1.1: An open-source electronic structure program emphasizing automation, advanced libraries, and interoperability",
@@ -168,14 +178,18 @@ TEXT_CITATIONS: list[tuple[str, str]] = [
     (r"Eyring, J\. Chem\. Phys\. 1935, 3, 107", "eyring"),
     (r"Marcus &(?:amp;)? Sutin, Biochim\. Biophys\. Acta 1985, 811, 265", "marcus_sutin"),
     (r"Jortner, J\. Chem\. Phys\. 1976, 64, 4860", "jortner"),
-    (r"Nelsen, Blackstock, Kim, JACS 1987, 109, 677", "nelsen"),
+    (r"Nelsen, Blackstock, Kim, (?:JACS|J\. Am\. Chem\. Soc\.) 1987, 109, 677", "nelsen"),
     (r"Brunschwig, Creutz,? (?:&(?:amp;)? )?Sutin(?:, Chem\. Soc\. Rev\.)? 2002(?:, 31, 168)?", "two_state"),
     (r"Newton &(?:amp;)? Sutin, Annu\. Rev\. Phys\. Chem\. 1984, 35, 437", "newton_sutin1984"),
     (r"Hush, Prog\. Inorg\. Chem\. 1967, 8, 391", "hush"), (r"Hush 1967", "hush"),
     (r"Creutz, Newton, Sutin 1994", "creutz1994"),
     (r"Huang &(?:amp;)? Rhys 1950", "huang_rhys"),
     (r"Reimers, J\. Chem\. Phys\. 2001, 115, 9103", "reimers2001"),
-    (r"Cave &(?:amp;)? Newton 1996", "cave_newton"),
+    (r"Cave &(?:amp;)? Newton(?:, Chem\. Phys\. Lett\.)? 1996(?:, 249, 15)?", "cave_newton"),
+    (r"Newton, Chem\. Rev\. 1991, 91, 767", "newton1991"),
+    (r"Bredas et al\., Chem\. Rev\. 2004, 104, 4971", "bredas2004"),
+    (r"Marcus, J\. Chem\. Phys\. 1956, 24, 966", "marcus1956"),
+    (r"Koopmans 1934", "koopmans1934"), (r"Bondi 1964", "bondi1964"),
     (r"Hilborn 1982", "hilborn"),
     (r"Sutin, Prog\. Inorg\. Chem\. 1983, 30, 441", "sutin1983"), (r"Sutin 1983", "sutin1983"),
     (r"Goerigk et al\.(?:, Phys\. Chem\. Chem\. Phys\.)? 2017(?:, 19, 32184)?", "goerigk2017"),
@@ -230,6 +244,10 @@ def _inline_citations(data: dict):
                                                          "symmetric_transfer")}, ""):
             for key in citation_keys(text):
                 yield key, f"pathway {pw.get('name')}"
+    for tr in data.get("transfers") or []:
+        for text, _ in _strings(tr, ""):
+            for key in citation_keys(text):
+                yield key, f"transfer {tr.get('name')}"
     for text, _ in _strings(data.get("uncertainty") or {}, ""):
         for key in citation_keys(text):
             yield key, "assumed uncertainties"

@@ -165,7 +165,7 @@ def _coupling_entry(project, tr, c) -> dict:
                      orbital_energies_hartree=pair["energies_hartree"],
                      splitting_cm1=abs(pair["splitting_hartree"]) * u.HARTREE_CM1)
         formula = (f"H_ab = [e({pair['names'][1]}) - e({pair['names'][0]})] / 2 of the neutral dimer, Koopmans' "
-                   f"theorem for a {tr.carrier} (Bredas et al., Chem. Rev. 2004, 104, 4971)")
+                   f"theorem (Koopmans 1934) for a {tr.carrier} (Bredas et al., Chem. Rev. 2004, 104, 4971)")
     else:
         axis = fragments.axis_between(xyz, donor, acceptor)
         idx, why, cos = _excited_root(c, rec, axis)
@@ -226,7 +226,7 @@ def _radius(project, tr, side: str) -> tuple[float | None, str]:
     rec = next((s["reactant_at_reactant"] for s in sets.values()), None)
     if rec is not None and rec.elements:
         return (fragments.volume_sphere_radius_angstrom(rec.elements, rec.coordinates_angstrom),
-                f"sphere of the van der Waals volume (Bondi radii) of '{project.label(rec)}'")
+                f"sphere of the van der Waals volume (radii of Bondi 1964) of '{project.label(rec)}'")
     for c in tr.couplings:
         if c.record is not None and c.record.elements:
             d, a, how = _pair_atoms(project, tr, c.record)
@@ -234,7 +234,7 @@ def _radius(project, tr, side: str) -> tuple[float | None, str]:
             el = [c.record.elements[i] for i in atoms]
             xyz = [c.record.coordinates_angstrom[i] for i in atoms]
             return (fragments.volume_sphere_radius_angstrom(el, xyz),
-                    f"sphere of the van der Waals volume (Bondi radii) of the {side} in '{c.file_label}' ({how})")
+                    f"sphere of the van der Waals volume (radii of Bondi 1964) of the {side} in '{c.file_label}' ({how})")
     return None, "no geometry of the molecule"
 
 
