@@ -21,10 +21,10 @@ def _scan_panel(ax, tr: dict) -> None:
             grid = np.linspace(min(r), max(r), 50)
             ax.plot(grid, fit["h0_cm1"] * np.exp(-fit["beta_per_angstrom"] * (grid - fit["r0_angstrom"]) / 2.0),
                     color=st["color"], linestyle=st["linestyle"], linewidth=1.2,
-                    label=_t(f"fit: beta = {fit['beta_per_angstrom']:.2f} ± {fit['beta_error_per_angstrom']:.2f} Å⁻¹"))
+                    label=_t(f"fit: β = {fit['beta_per_angstrom']:.2f} ± {fit['beta_error_per_angstrom']:.2f} Å⁻¹"))
     ax.set_yscale("log")
     ax.set_xlabel("separation R / Å")
-    ax.set_ylabel("H_ab / cm⁻¹")
+    ax.set_ylabel(r"$H_\mathrm{ab}$ / cm⁻¹")
     ax.legend(fontsize=6, loc="lower left")
 
 
