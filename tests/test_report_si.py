@@ -16,7 +16,7 @@ from tests.conftest import demo_path
 
 # ASCII stand-ins for math that must not survive into the PDF (issue 15's list).
 ASCII_MATH = ["lambda", "dE0", "dG0", "10^(", "10^", "s-1", "cm-1", "H_ab", "nu max", "nu_max", "kappa", "2hab over",
-              "dG_act", "dE_act", " x 10"]
+              "dG_act", "dE_act", " x 10", "(c nu)", "nu =", "gamma", "sigma_"]
 
 
 @pytest.fixture(scope="module")

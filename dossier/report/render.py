@@ -35,7 +35,8 @@ from dossier.report.containment import (  # noqa: F401 (CSP, CSP_META, css_refer
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
 from dossier.report import collaborator, trace
-from dossier.report.typeset import (MINUS, Citer, fmt_log10_interval, fmt_power, fmt_temperature, fmt_wavenumber,
+from dossier.report.typeset import UNIT_SUFFIXES as _UNIT_SUFFIXES
+from dossier.report.typeset import (MINUS, Citer, quantity_label, fmt_log10_interval, fmt_power, fmt_temperature, fmt_wavenumber,
                                     typeset)
 
 
@@ -117,30 +118,6 @@ def bib_plain(text: Any) -> str:
     return out.rstrip(".")
 
 
-_UNIT_SUFFIXES = [("_kj_mol", "kJ mol⁻¹"), ("_kcal_mol", "kcal mol⁻¹"), ("_m1_cm1", "M⁻¹ cm⁻¹"), ("_cm1", "cm⁻¹"),
-                  ("_ev", "eV"), ("_nm", "nm"), ("_angstrom", "Å"), ("_per_s", "s⁻¹"), ("_hz", "Hz"), ("_k", "K"),
-                  ("_hartree", "Eh")]
-
-
-#: Symbols of the quantities dossier.json names in words (HTML).
-_SYMBOLS = {"nu_max": "ν̃<sub>max</sub>", "fwhm": "Δν̃<sub>1/2</sub> (full width at half height)",
-            "epsilon_max": "ε<sub>max</sub>", "distance": "r<sub>ab</sub> (site distance)", "temperature": "T",
-            "delta_g0": "ΔG°", "coupling": "H<sub>ab</sub>", "reorganization_energy": "λ",
-            "reorganization_energy_from_width": "λ from the band width",
-            "expected_class_ii_fwhm": "Δν̃<sub>1/2</sub> expected for class II", "width_ratio": "Δν̃<sub>1/2</sub> / class-II width",
-            "ratio_2hab_over_lambda": "2H<sub>ab</sub>/λ"}
-
-
-def quantity_label(key: Any) -> Markup:
-    """'coupling_cm1' -> 'H_ab / cm⁻¹' (the unit suffix convention of dossier.json), as HTML."""
-    key = str(key)
-    stem, unit = key, None
-    for suffix, u in _UNIT_SUFFIXES:
-        if key.endswith(suffix):
-            stem, unit = key[: -len(suffix)], u
-            break
-    label = Markup(_SYMBOLS[stem]) if stem in _SYMBOLS else typeset(stem.replace("_", " "))
-    return label + Markup(f" / {unit}") if unit else label
 
 
 def formula_markup(text: Any) -> Markup:
@@ -359,23 +336,6 @@ def population_tables(data: dict) -> list[dict]:
     return out
 
 
-def group_checks(checks: list[dict]) -> list[dict]:
-    """One row per finding: the same code and message on several states or files is shown once,
-    with every state and file it concerns (order of first appearance kept)."""
-    rows: dict[tuple, dict] = {}
-    for c in checks:
-        key = (c.get("severity"), c.get("code"), c.get("message"))
-        row = rows.setdefault(key, {**c, "states": [], "files": []})
-        if c.get("state") and c["state"] not in row["states"]:
-            row["states"].append(c["state"])
-        if c.get("file") and c["file"] not in row["files"]:
-            row["files"].append(c["file"])
-    for row in rows.values():
-        row["state"] = ", ".join(row["states"]) or None
-        row["file"] = "; ".join(row["files"]) or None
-    return list(rows.values())
-
-
 def localization_rows(data: dict) -> list[dict]:
     out = []
     for st in data.get("states", []):
@@ -446,7 +406,7 @@ def context(data: dict, figures: list[FigureOut]) -> dict:
         "energy": lambda v: _energy(v, unit),
         "loc_rows": localization_rows(data), "sites": sites_in(data), "population_tables": population_tables(data),
         "band_rows": band_rows,
-        "checks": group_checks(sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or ""))),
+        "checks": trace.group_checks(sorted(checks, key=lambda c: (sev.get(c.get("severity"), 2), c.get("code") or "", c.get("state") or ""))),
         "n_errors": sum(1 for c in checks if c.get("severity") == "error"),
         "n_warnings": sum(1 for c in checks if c.get("severity") == "warning"),
         "states_by_name": _state_by_name(data),

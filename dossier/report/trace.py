@@ -165,3 +165,20 @@ def transition_state_rows(data: dict) -> list[dict]:
                     "note": st.get("note"), "frequency_file": files.get("frequencies"),
                     "n_imaginary": freq.get("n_imaginary"), "imaginary_cm1": freq.get("imaginary_cm1") or []})
     return out
+
+
+def group_checks(checks: list[dict]) -> list[dict]:
+    """One row per finding: the same code and message on several states or files is shown once,
+    with every state and file it concerns (order of first appearance kept)."""
+    rows: dict[tuple, dict] = {}
+    for c in checks:
+        key = (c.get("severity"), c.get("code"), c.get("message"))
+        row = rows.setdefault(key, {**c, "states": [], "files": []})
+        if c.get("state") and c["state"] not in row["states"]:
+            row["states"].append(c["state"])
+        if c.get("file") and c["file"] not in row["files"]:
+            row["files"].append(c["file"])
+    for row in rows.values():
+        row["state"] = ", ".join(row["states"]) or None
+        row["file"] = "; ".join(row["files"]) or None
+    return list(rows.values())

@@ -33,7 +33,7 @@ _TOKENS: list[tuple[str, str]] = [
     (r"\bdE_12\b", "ΔE<sub>12</sub>"), (r"\bdE_1\b", "ΔE<sub>1</sub>"),
     (r"\bdmu_12\b", "Δμ<sub>12</sub>"), (r"\bmu_12\b", "μ<sub>12</sub>"),
     (r"\bkappa_LZ\b", "κ<sub>LZ</sub>"), (r"\bkappa\b", "κ"),
-    (r"\bnu_max\b", "ν̃<sub>max</sub>"), (r"\bnu max\b", "ν̃<sub>max</sub>"), (r"\bnu_n\b", "ν<sub>n</sub>"),
+    (r"\bnu_max\b", "ν̃<sub>max</sub>"), (r"\bnu max\b", "ν̃<sub>max</sub>"), (r"\bnu_n\b", "ν<sub>n</sub>"), (r"\bnu\b", "ν̃"),
     (r"\beps_max\b", "ε<sub>max</sub>"), (r"\bepsilon max\b", "ε<sub>max</sub>"),
     (r"\bfwhm\b", "Δν̃<sub>1/2</sub>"), (r"\bdnu_1/2\b", "Δν̃<sub>1/2</sub>"),
     (r"\blambda_s\b", "λ<sub>s</sub>"), (r"\blambda_i\b", "λ<sub>i</sub>"), (r"\blambda\b", "λ"),
@@ -163,3 +163,29 @@ class Citer:
         for key in self.works:
             self.number(key)
         return [{**self.works[k], "number": i + 1} for i, k in enumerate(self.order)]
+
+
+UNIT_SUFFIXES = [("_kj_mol", "kJ mol⁻¹"), ("_kcal_mol", "kcal mol⁻¹"), ("_m1_cm1", "M⁻¹ cm⁻¹"), ("_cm1", "cm⁻¹"),
+                 ("_ev", "eV"), ("_nm", "nm"), ("_angstrom", "Å"), ("_per_s", "s⁻¹"), ("_hz", "Hz"), ("_k", "K"),
+                 ("_hartree", "Eh")]
+
+
+#: Symbols of the quantities dossier.json names in words (HTML).
+_SYMBOLS = {"nu_max": "ν̃<sub>max</sub>", "fwhm": "Δν̃<sub>1/2</sub> (full width at half height)",
+            "epsilon_max": "ε<sub>max</sub>", "distance": "r<sub>ab</sub> (site distance)", "temperature": "T",
+            "delta_g0": "ΔG°", "coupling": "H<sub>ab</sub>", "reorganization_energy": "λ",
+            "reorganization_energy_from_width": "λ from the band width",
+            "expected_class_ii_fwhm": "Δν̃<sub>1/2</sub> expected for class II", "width_ratio": "Δν̃<sub>1/2</sub> / class-II width",
+            "ratio_2hab_over_lambda": "2H<sub>ab</sub>/λ"}
+
+
+def quantity_label(key: Any) -> Markup:
+    """'coupling_cm1' -> 'H_ab / cm⁻¹' (the unit suffix convention of dossier.json), as HTML."""
+    key = str(key)
+    stem, unit = key, None
+    for suffix, u in UNIT_SUFFIXES:
+        if key.endswith(suffix):
+            stem, unit = key[: -len(suffix)], u
+            break
+    label = Markup(_SYMBOLS[stem]) if stem in _SYMBOLS else typeset(stem.replace("_", " "))
+    return label + Markup(f" / {unit}") if unit else label
