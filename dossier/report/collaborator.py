@@ -71,9 +71,10 @@ def glossary(data: dict, site_table: dict) -> list[tuple[str, str]]:
                 any(u.get("model") == model for pw in data.get("pathways", []) for u in pw.get("rates_unavailable", [])):
             out.append((model, words))
     for row in site_table.get("rows", []):
-        out.append((row["site"], f"site: atoms {row['atoms']} ({row['elements']})"))
+        out.append((row["site"], f"site: atoms {row['atoms']}" + (f" ({row['elements']})" if row["elements"] else "")))
     for st in data.get("states", []):
         out.append((st["name"], f"{st.get('role') or 'state'}" + (f": {st['note']}" if st.get("note") else "")))
     for name, r in ((data.get("project") or {}).get("recipes") or {}).items():
-        out.append((name, f"recipe: {r.get('level_of_theory') or ''}"))
+        if r.get("level_of_theory"):
+            out.append((name, f"recipe: {r['level_of_theory']}"))
     return out
