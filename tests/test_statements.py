@@ -14,7 +14,7 @@ from dossier.science import statements as st
 from dossier.science import uncertainty as unc
 
 RATE_RE = re.compile(
-    r"^k\((?P<t>\d+) K\) = 10\^\((?P<m>-?\d+\.\d) (?:± (?P<pm>\d+\.\d)|\+(?P<up>\d+\.\d)/-(?P<down>\d+\.\d))\) s-1 \(68 %\)$")
+    r"^k\((?P<t>\d+(?:\.\d{1,2})?) K\) = 10\^\((?P<m>-?\d+\.\d) (?:± (?P<pm>\d+\.\d)|\+(?P<up>\d+\.\d)/-(?P<down>\d+\.\d))\) s-1 \(68 %\)$")
 SHIFT_RE = re.compile(r"^the barrier would have to be (?P<v>\d+\.\d) kJ/mol (?P<dir>higher|lower) to match the measurement$")
 RATIO_RE = re.compile(r"^the computed rate is (?P<f>[\d.]+(?: x 10\^\d+)?) times \((?P<d>\d+\.\d) decades\) (?P<side>faster|slower) than the measured one$")
 
@@ -24,12 +24,12 @@ def parse_rate(text):
     assert m, text
     med = float(m["m"])
     if m["pm"]:
-        return int(m["t"]), med, float(m["pm"]), float(m["pm"])
-    return int(m["t"]), med, float(m["up"]), float(m["down"])
+        return float(m["t"]), med, float(m["pm"]), float(m["pm"])
+    return float(m["t"]), med, float(m["up"]), float(m["down"])
 
 
 def test_example_from_the_issue():
-    assert st.rate_statement(298.15, 6.2, (5.3, 7.1)) == "k(298 K) = 10^(6.2 ± 0.9) s-1 (68 %)"
+    assert st.rate_statement(298.15, 6.2, (5.3, 7.1)) == "k(298.15 K) = 10^(6.2 ± 0.9) s-1 (68 %)"  # T as given
     assert st.barrier_shift_statement(-4.1) == "the barrier would have to be 4.1 kJ/mol lower to match the measurement"
     assert st.interval_statement(False, True).startswith("the measured rate lies inside the 95 % interval")
 
@@ -39,7 +39,7 @@ def test_example_from_the_issue():
 def test_rate_sentence_parses_back(t, med, up, down):
     text = st.rate_statement(t, med, (med - down, med + up))
     tt, m, u, d = parse_rate(text)
-    assert tt == round(t)
+    assert tt == pytest.approx(t, abs=0.005 + 1e-9)  # the temperature as given, to two decimals
     assert m == pytest.approx(med, abs=0.05 + 1e-9)
     assert u == pytest.approx(up, abs=0.1 + 1e-9)
     assert d == pytest.approx(down, abs=0.1 + 1e-9)
@@ -96,7 +96,7 @@ def test_comparison_sentence_agrees_with_its_entry():
     decades = re.search(r"\((\d+\.\d) decades\) (faster|slower)", text)
     assert float(decades[1]) == pytest.approx(r["log10_ratio"], abs=0.05) and decades[2] == "faster"
     assert "inside the 95 % interval but outside the 68 %" in text
-    assert "298 K" in text
+    assert "298.15 K" in text  # the temperature as the manifest gives it
 
 
 def test_correlation_sentence_names_the_coefficient():

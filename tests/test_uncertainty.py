@@ -183,7 +183,7 @@ def test_annotate_rate_gives_the_json_keys():
     assert hi - lo == pytest.approx(2 * analytic_sigma_log10(5.708, T), abs=0.05)  # sigma = RT ln10 -> 1 decade
     assert len(d["log10_rate_interval_95"]) == 2
     assert d["sensitivity_kj_mol_per_decade"] == pytest.approx(5.708, abs=1e-3)
-    assert d["statement"].startswith("k(298 K) = 10^(")
+    assert d["statement"].startswith("k(298.15 K) = 10^(")
     summary = m.to_dict()
     assert summary["samples"] == 5000 and summary["seed"] == 7
     assert summary["assumptions"][0]["sigma"] == 5.708

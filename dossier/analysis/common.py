@@ -88,7 +88,7 @@ MODEL_STATEMENT = (
     "Rates are model estimates, not measurements: each follows from its named formula (transition-state theory, "
     "nonadiabatic Marcus, Marcus-Levich-Jortner or the two-state adiabatic model) and from computed energies, "
     "reorganization energies and couplings that carry the errors of their levels of theory. A barrier error of "
-    "RT ln 10 (5.7 kJ/mol at 298 K) changes a rate tenfold; the intervals show only the spread that follows from "
+    "RT ln 10 (5.7 kJ/mol at 298.15 K) changes a rate tenfold; the intervals show only the spread that follows from "
     "the stated uncertainties."
 )
 

@@ -15,10 +15,15 @@ LOG_DIGITS = 1
 ENERGY_DIGITS = 1
 
 
+def kelvin(temperature_k: float) -> str:
+    """A temperature as the user gave it: 298.15 stays 298.15, 300.0 is 300 (at most two decimals)."""
+    return f"{temperature_k:.2f}".rstrip("0").rstrip(".")
+
+
 def _t(temperature_k: float | None) -> str:
     if temperature_k is None:
         return "k"
-    return f"k({temperature_k:.0f} K)"
+    return f"k({kelvin(temperature_k)} K)"
 
 
 def rate_statement(
@@ -26,7 +31,7 @@ def rate_statement(
     log10_median: float,
     interval_68: Sequence[float],
 ) -> str:
-    """'k(298 K) = 10^(6.2 ± 0.9) s-1 (68 %)'; asymmetric intervals as '10^(6.2 +0.8/-1.0)'."""
+    """'k(298.15 K) = 10^(6.2 ± 0.9) s-1 (68 %)'; asymmetric intervals as '10^(6.2 +0.8/-1.0)'."""
     lo, hi = float(interval_68[0]), float(interval_68[1])
     m = round(log10_median, LOG_DIGITS)
     up = round(hi - log10_median, LOG_DIGITS)
@@ -125,7 +130,7 @@ def band_statement(quantity: str, computed: float, measured: float, unit: str, *
 def rate_comparison_statement(entry: Mapping[str, Any]) -> str:
     """One sentence for one computed-vs-measured rate (an experiment.compare_rate result)."""
     t = entry["temperature_k"]
-    head = f"At {t:.0f} K ({entry['computed_model']})"
+    head = f"At {kelvin(t)} K ({entry['computed_model']})"
     validity = entry.get("computed_validity") or {}
     if validity and not validity.get("valid"):
         head += f" [model not valid here: {validity.get('note')}]"
@@ -139,5 +144,5 @@ def rate_comparison_statement(entry: Mapping[str, Any]) -> str:
 def ladder_statement(recipe: str, model: str, temperature_k: float, log10_ratio: float, n_rungs: int) -> str:
     """Which rung of the method ladder comes closest to a measurement."""
     return (f"Of the {n_rungs} rungs of the method ladder, {recipe} comes closest to the measurement at "
-            f"{temperature_k:.0f} K ({model}): {abs(log10_ratio):.{LOG_DIGITS}f} decades "
+            f"{kelvin(temperature_k)} K ({model}): {abs(log10_ratio):.{LOG_DIGITS}f} decades "
             f"{'above' if log10_ratio > 0 else 'below'} it")
