@@ -139,12 +139,25 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
     if data is None:
         return calc
     meta = dict(_get(data, "metadata", {}) or {})
-    calc.program_version = meta.get("package_version") or meta.get("legacy_package_version")
+    methods = [m for m in meta.get("methods", []) if m]
+    _set_identity(calc, data, meta)
+    _set_level(calc, data, meta, methods)
+    _set_energies(calc, data, methods)
+    _set_vibrations(calc, data)
+    _set_printed_thermo(calc, data)
+    _set_populations(calc, data)
+    _set_excited_states(calc, data)
+    _set_orbitals(calc, data)
+    _set_dipole(calc, data, program)
+    return calc
 
+
+def _set_identity(calc: Calculation, data, meta: dict) -> None:
+    """Program version, charge, multiplicity, elements and the last geometry."""
+    calc.program_version = meta.get("package_version") or meta.get("legacy_package_version")
     charge, mult = _get(data, "charge"), _get(data, "mult")
     calc.charge = int(charge) if charge is not None else None
     calc.multiplicity = int(mult) if mult is not None else None
-
     atomnos = _get(data, "atomnos")
     coords = _get(data, "atomcoords")
     if atomnos is not None and len(atomnos):
@@ -152,8 +165,9 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
     if coords is not None and len(coords):
         calc.coordinates_angstrom = [[float(v) for v in row] for row in coords[-1]]
 
-    # Level of theory from cclib's metadata (supplements refine it from the text)
-    methods = [m for m in meta.get("methods", []) if m]
+
+def _set_level(calc: Calculation, data, meta: dict, methods: list) -> None:
+    """Level of theory from cclib's metadata (supplements refine it from the text)."""
     functional = meta.get("functional")
     family = None
     if functional or "DFT" in methods:
@@ -165,7 +179,9 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
     if moen is not None:
         calc.level.unrestricted = len(moen) == 2
 
-    # Energies
+
+def _set_energies(calc: Calculation, data, methods: list) -> None:
+    """SCF (every step), MPn and coupled-cluster energies, eV -> hartree."""
     scf = _get(data, "scfenergies")
     if scf is not None and len(scf):
         scf_h = [float(_ev_to_hartree(e)) for e in scf]
@@ -184,32 +200,39 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
         label = cc_methods[-1] if cc_methods else "cc"
         calc.energies_hartree[label] = float(_ev_to_hartree(cc[-1]))
 
-    # Vibrations: wavenumbers in cm-1 (cclib keeps the printed values), IR in km/mol
+
+def _set_vibrations(calc: Calculation, data) -> None:
+    """Wavenumbers in cm-1 (cclib keeps the printed values), IR in km/mol."""
     freqs = _get(data, "vibfreqs")
-    if freqs is not None and len(freqs):
-        disps = _get(data, "vibdisps")
-        irs = _get(data, "vibirs")
-        calc.vibrations = Vibrations(
-            wavenumbers_cm1=_floats(freqs),
-            displacements=np.asarray(disps, dtype=float).tolist() if disps is not None and len(disps) == len(freqs) else None,
-            ir_intensities_km_mol=_floats(irs) if irs is not None and len(irs) == len(freqs) else None,
-        )
+    if freqs is None or not len(freqs):
+        return
+    disps = _get(data, "vibdisps")
+    irs = _get(data, "vibirs")
+    calc.vibrations = Vibrations(
+        wavenumbers_cm1=_floats(freqs),
+        displacements=np.asarray(disps, dtype=float).tolist() if disps is not None and len(disps) == len(freqs) else None,
+        ir_intensities_km_mol=_floats(irs) if irs is not None and len(irs) == len(freqs) else None,
+    )
 
-    # Printed thermochemistry: cclib documents hartree/particle totals; the supplements fix
-    # the parsers that do not follow that (xtb: eV; Q-Chem: corrections, not totals).
-    thermo_names = ("temperature", "pressure", "zpve", "enthalpy", "freeenergy", "entropy")
-    if any(_get(data, n) is not None for n in thermo_names[2:]):
-        p_atm = _get(data, "pressure")
-        calc.printed_thermo = PrintedThermo(
-            temperature_k=_opt_float(_get(data, "temperature")),
-            pressure_pa=float(p_atm) * STANDARD_ATMOSPHERE_PA if p_atm is not None else None,
-            zpe_hartree=_opt_float(_get(data, "zpve")),
-            enthalpy_hartree=_opt_float(_get(data, "enthalpy")),
-            gibbs_hartree=_opt_float(_get(data, "freeenergy")),
-            entropy_hartree_per_k=_opt_float(_get(data, "entropy")),
-        )
 
-    # Populations
+def _set_printed_thermo(calc: Calculation, data) -> None:
+    """Printed thermochemistry: cclib documents hartree/particle totals; the supplements fix
+    the parsers that do not follow that (xtb: eV; Q-Chem: corrections, not totals)."""
+    if not any(_get(data, n) is not None for n in ("zpve", "enthalpy", "freeenergy", "entropy")):
+        return
+    p_atm = _get(data, "pressure")
+    calc.printed_thermo = PrintedThermo(
+        temperature_k=_opt_float(_get(data, "temperature")),
+        pressure_pa=float(p_atm) * STANDARD_ATMOSPHERE_PA if p_atm is not None else None,
+        zpe_hartree=_opt_float(_get(data, "zpve")),
+        enthalpy_hartree=_opt_float(_get(data, "enthalpy")),
+        gibbs_hartree=_opt_float(_get(data, "freeenergy")),
+        entropy_hartree_per_k=_opt_float(_get(data, "entropy")),
+    )
+
+
+def _set_populations(calc: Calculation, data) -> None:
+    """Per-atom charges and spin populations by scheme."""
     for scheme, values in (_get(data, "atomcharges", {}) or {}).items():
         if scheme.endswith("_sum"):  # hydrogens summed into heavy atoms: not a per-atom scheme
             continue
@@ -219,58 +242,70 @@ def to_calculation(data, source: Source, program: str) -> Calculation:
             continue
         calc.spin_populations[_scheme(scheme)] = _floats(values)
 
-    # Excited states
-    ete = _get(data, "etenergies")
-    if ete is not None and len(ete):
-        oscs = _get(data, "etoscs")
-        syms = _get(data, "etsyms")
-        secs = _get(data, "etsecs")
-        dips = _get(data, "etdips")
-        for i, e_cm1 in enumerate(ete):
-            contribs = []
-            if secs is not None and i < len(secs):
-                for (fr, fs), (to, ts), coef in secs[i]:
-                    contribs.append((_mo_label(fr, fs), _mo_label(to, ts), float(coef)))
-            calc.excited_states.append(
-                ExcitedState(
-                    energy_ev=float(_cm1_to_ev(e_cm1)),
-                    energy_cm1=float(e_cm1),
-                    oscillator_strength=float(oscs[i]) if oscs is not None and i < len(oscs) else None,
-                    symmetry=str(syms[i]) if syms is not None and i < len(syms) else None,
-                    transition_dipole_au=_floats(dips[i]) if dips is not None and i < len(dips) else None,
-                    contributions=contribs,
-                )
-            )
 
-    # Orbitals
-    if moen is not None and len(moen):
-        homos = _get(data, "homos")
-        mocoeffs = _get(data, "mocoeffs")
-        overlap = _get(data, "aooverlaps")
-        atombasis = _get(data, "atombasis")
-        basis_atoms = None
-        if atombasis is not None:
-            nbasis = sum(len(b) for b in atombasis)
-            basis_atoms = [0] * nbasis
-            for atom, funcs in enumerate(atombasis):
-                for f in funcs:
-                    if f < nbasis:
-                        basis_atoms[f] = atom
-        calc.orbitals = Orbitals(
-            # unprinted orbitals (xtb prints a window around the gap) are NaN in cclib: None here
-            energies_hartree=[[float(_ev_to_hartree(e)) if np.isfinite(e) else None for e in channel] for channel in moen],
-            homo_indices=[int(h) for h in homos] if homos is not None else [],
-            coefficients=[np.asarray(c, dtype=float).tolist() for c in mocoeffs] if mocoeffs is not None else None,
-            basis_labels=list(_get(data, "aonames")) if _get(data, "aonames") is not None else None,
-            basis_atoms=basis_atoms,
-            overlap=np.asarray(overlap, dtype=float).tolist() if overlap is not None else None,
+def _set_excited_states(calc: Calculation, data) -> None:
+    """Excitation energies (cclib: cm-1), oscillator strengths, symmetries, dipoles, contributions."""
+    ete = _get(data, "etenergies")
+    if ete is None or not len(ete):
+        return
+    oscs = _get(data, "etoscs")
+    syms = _get(data, "etsyms")
+    secs = _get(data, "etsecs")
+    dips = _get(data, "etdips")
+    for i, e_cm1 in enumerate(ete):
+        contribs = []
+        if secs is not None and i < len(secs):
+            for (fr, fs), (to, ts), coef in secs[i]:
+                contribs.append((_mo_label(fr, fs), _mo_label(to, ts), float(coef)))
+        calc.excited_states.append(
+            ExcitedState(
+                energy_ev=float(_cm1_to_ev(e_cm1)),
+                energy_cm1=float(e_cm1),
+                oscillator_strength=float(oscs[i]) if oscs is not None and i < len(oscs) else None,
+                symmetry=str(syms[i]) if syms is not None and i < len(syms) else None,
+                transition_dipole_au=_floats(dips[i]) if dips is not None and i < len(dips) else None,
+                contributions=contribs,
+            )
         )
 
-    # Dipole moment: cclib keeps the printed debye values for these parsers
+
+def _basis_atoms(atombasis) -> list[int] | None:
+    """The 0-based atom of each basis function, from cclib's per-atom function lists."""
+    if atombasis is None:
+        return None
+    nbasis = sum(len(b) for b in atombasis)
+    basis_atoms = [0] * nbasis
+    for atom, funcs in enumerate(atombasis):
+        for f in funcs:
+            if f < nbasis:
+                basis_atoms[f] = atom
+    return basis_atoms
+
+
+def _set_orbitals(calc: Calculation, data) -> None:
+    """Orbital energies (eV -> hartree), HOMO indices, coefficients, basis labels, overlap."""
+    moen = _get(data, "moenergies")
+    if moen is None or not len(moen):
+        return
+    homos = _get(data, "homos")
+    mocoeffs = _get(data, "mocoeffs")
+    overlap = _get(data, "aooverlaps")
+    calc.orbitals = Orbitals(
+        # unprinted orbitals (xtb prints a window around the gap) are NaN in cclib: None here
+        energies_hartree=[[float(_ev_to_hartree(e)) if np.isfinite(e) else None for e in channel] for channel in moen],
+        homo_indices=[int(h) for h in homos] if homos is not None else [],
+        coefficients=[np.asarray(c, dtype=float).tolist() for c in mocoeffs] if mocoeffs is not None else None,
+        basis_labels=list(_get(data, "aonames")) if _get(data, "aonames") is not None else None,
+        basis_atoms=_basis_atoms(_get(data, "atombasis")),
+        overlap=np.asarray(overlap, dtype=float).tolist() if overlap is not None else None,
+    )
+
+
+def _set_dipole(calc: Calculation, data, program: str) -> None:
+    """Dipole moment: cclib keeps the printed debye values for these parsers."""
     moments = _get(data, "moments")
     if moments is not None and len(moments) > 1 and program in ("Gaussian", "ORCA", "Q-Chem", "Psi4"):
         calc.dipole_debye = _floats(moments[1])
-    return calc
 
 
 def _opt_float(x):

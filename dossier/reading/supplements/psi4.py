@@ -54,13 +54,29 @@ def apply(calc, text: str, data) -> None:
     m = re.search(r"^\s+Psi4 (\d+\.\d+(?:\.\d+)?)\S* (?:release|dev)", text[:3000], re.M)
     if m:
         calc.program_version = m.group(1)
-    echo = _input_echo(text)
-    low = echo.lower()
+    low = _input_echo(text).lower()
+    is_freq = _set_job_kinds(calc, low)
+    _set_level(calc, text, low)
+    s2 = last_float(r"@S\^2 Observed:\s*(" + FLOAT + ")", text)
+    if s2 is not None:
+        calc.s2 = s2
+    _set_energies(calc, text, is_freq)
+    _set_populations(calc, text)
+    _set_thermo(calc, text)
+
+
+def _set_job_kinds(calc, low: str) -> bool:
+    """Job kinds from the lower-cased input echo; True for a frequency job."""
     if re.search(r"\b(optimize|opt)\(", low):
         calc.job_kinds.append("optimization")
     is_freq = re.search(r"\b(frequencies|frequency|freq|hessian)\(", low) is not None
     if is_freq:
         calc.job_kinds.append("frequencies")
+    return is_freq
+
+
+def _set_level(calc, text: str, low: str) -> None:
+    """Method, dispersion, reference and PCM solvation from the input echo (`low`) and the log."""
     m = re.search(r"\b(?:energy|optimize|opt|frequencies|frequency|freq|gradient|properties)\(\s*['\"]([^'\"]+)['\"]", low)
     if m:
         name = m.group(1)
@@ -82,10 +98,9 @@ def apply(calc, text: str, data) -> None:
         eps = last_float(r"Dielectric \(static\)\s*=?\s*(" + FLOAT + ")", text) or last_float(r"epsilon\s*=\s*(" + FLOAT + ")", low)
         calc.level.solvation = f"PCM (eps={eps:g})" if eps is not None else "PCM"
 
-    s2 = last_float(r"@S\^2 Observed:\s*(" + FLOAT + ")", text)
-    if s2 is not None:
-        calc.s2 = s2
 
+def _set_energies(calc, text: str, is_freq: bool) -> None:
+    """SCF energy (a frequency job's reference geometry: see the module docstring), MP2 and CC."""
     totals = all_floats(r"    Total Energy =\s*(" + FLOAT + ")", text)
     e0 = last_float(r"Total E0, Electronic energy at well bottom at 0 \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
     if is_freq and e0 is not None:
@@ -108,6 +123,9 @@ def apply(calc, text: str, data) -> None:
                 del calc.energies_hartree[k]
             calc.energies_hartree[name] = v
 
+
+def _set_populations(calc, text: str) -> None:
+    """Mulliken and Lowdin charges; spin populations too for an unrestricted reference."""
     n = calc.n_atoms
     for scheme, title in (("mulliken", "Mulliken Charges: (a.u.)"), ("lowdin", "Lowdin Charges: (a.u.)")):
         i = text.rfind(title)
@@ -126,6 +144,9 @@ def apply(calc, text: str, data) -> None:
             if calc.level.unrestricted:
                 calc.spin_populations[scheme] = s
 
+
+def _set_thermo(calc, text: str) -> None:
+    """Printed thermochemistry totals in Eh at the printed temperature and pressure."""
     t = last_match(r"Total H, Enthalpy at\s+(" + FLOAT + r") \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
     if t:
         g = last_float(r"Total G, Free enthalpy at\s+" + FLOAT + r" \[K\]\s+(" + FLOAT + r") \[Eh\]", text)
