@@ -372,3 +372,29 @@ def test_transfer_literature_is_numbered_in_the_bibliography(study):
     html_text = render_html(data, [])
     section = html_text[html_text.index('id="transfers"'):html_text.index("</section>", html_text.index('id="transfers"'))]
     assert 'class="cite"' in section and "1956, 24, 966" not in section  # inline literature became [n]
+
+
+def test_a_transfer_quotes_only_a_rate_that_holds(study):
+    """headline_rate is chosen among valid golden-rule entries only (issue 12): without a nuclear frequency
+    the regime cannot be judged and nothing is quoted; with one, the quoted entry holds and no valid entry of
+    the same route lies at a shorter separation (the stated preference; common practice, no source)."""
+    base = '[[transfers]]\nname = "nb"\ndriving_force = "symmetry"\n'
+    plain = analyse(load_project(_write(study, base + FOUR_POINT + VALUES)))["transfers"][0]
+    assert plain["headline_rate"] is None
+    assert "cannot be judged" in plain["headline_reason"] and "3 coupling points" in plain["headline_reason"]
+    assert plain["statements"][-1].startswith("No rate constant is quoted")
+    given = base + 'nuclear_frequency_cm1 = 1350.0\nnuclear_frequency_source = "NO2 stretch, common practice"\n'
+    tr = analyse(load_project(_write(study, given + FOUR_POINT + VALUES)))["transfers"][0]
+    head = tr["headline_rate"]
+    valid = [r for r in tr["rates"] if r["validity"]["valid"]]
+    assert head is not None and head in valid
+    assert not any(r["route"] == head["route"] and r["separation_angstrom"] < head["separation_angstrom"] for r in valid)
+    assert f"{len(valid)} of 3" in tr["headline_reason"]
+
+
+def test_demo_transfer_says_why_no_rate_is_quoted():
+    tr = _demo_transfer()
+    assert tr["headline_rate"] is None and not any(r["validity"]["valid"] for r in tr["rates"])
+    failing = sum(1 for r in tr["rates"] for c in r["validity"]["criteria"]
+                  if c["criterion"] == "two_hab_over_lambda" and c["holds"] is False)
+    assert f"at {failing} of {len(tr['rates'])} points 2H_ab/lambda >= 1" in tr["headline_reason"]

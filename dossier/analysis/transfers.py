@@ -334,6 +334,50 @@ def _statements(tr, lam: dict | None, dg: dict | None, scans: list[dict], points
     return out + _disagreements(who, points)
 
 
+#: Coupling routes in the order a transfer's headline rate prefers them: routes from the dimer's
+#: orbitals or state dipoles before the raw charge-resonance gap, which also holds the exchange and
+#: polarization of the charged dimer (common practice, no source).
+HEADLINE_ROUTE_PREFERENCE = ("gmh", "orbital-splitting", "charge-resonance", "value")
+
+_FAILURE_WORDS = {
+    "two_hab_over_lambda": "2H_ab/lambda >= 1 (a single shared minimum, class III: no hop between two sites)",
+    "kappa_at_most_one": "the effective transmission coefficient exceeds 1 (the coupling is too large for the "
+                         "golden-rule formula)",
+    "nonadiabatic_passage": "the Landau-Zener parameter shows adiabatic passage",
+}
+
+
+def _headline(rates: list[dict], who: str) -> tuple[dict | None, str]:
+    """(headline rate, reason): the golden-rule rate that holds, by HEADLINE_ROUTE_PREFERENCE and then the
+    shortest separation; else null and why no coupling point gives a rate."""
+    if not rates:
+        return None, "no golden-rule rate was computed (a reorganization energy, driving force or coupling is missing)"
+    valid = [r for r in rates if r["validity"]["valid"]]
+    if valid:
+        def rank(r):
+            route = r["route"]
+            order = HEADLINE_ROUTE_PREFERENCE.index(route) if route in HEADLINE_ROUTE_PREFERENCE else len(HEADLINE_ROUTE_PREFERENCE)
+            return order, r.get("separation_angstrom") or 0.0
+        best = min(valid, key=rank)
+        where = f" at R = {best['separation_angstrom']:.2f} A" if best.get("separation_angstrom") is not None else ""
+        return best, (f"the golden-rule rate holds for {len(valid)} of {len(rates)} coupling points; quoted: the "
+                      f"{best['route']} coupling{where} (routes preferred in the order "
+                      f"{', '.join(HEADLINE_ROUTE_PREFERENCE)}, then the shortest separation)")
+    counts: dict[str, int] = {}
+    unjudged = 0
+    for r in rates:
+        for c in r["validity"]["criteria"]:
+            if c["holds"] is False:
+                counts[c["criterion"]] = counts.get(c["criterion"], 0) + 1
+            elif c["holds"] is None:
+                unjudged += 1
+    parts = [f"at {n} of {len(rates)} points {_FAILURE_WORDS.get(k, k)}" for k, n in counts.items()]
+    if unjudged:
+        parts.append("without a nuclear frequency the Landau-Zener regime cannot be judged")
+    return None, (f"no golden-rule {who}-hopping rate holds at any of the {len(rates)} coupling points: "
+                  + "; ".join(parts))
+
+
 def transfer_entry(project, tr, temperature_k: float) -> dict:
     """The result dict of one bound transfer (docs/dossier-json.md, `transfers`)."""
     lam_rungs, missing = _lambda_rungs(project, tr)
@@ -348,6 +392,11 @@ def transfer_entry(project, tr, temperature_k: float) -> dict:
     scans = _scans(points)
     sol = _solvent_entry(project, tr, [p["separation_angstrom"] for p in points
                                        if p.get("separation_angstrom") is not None])
+    rates = _rates(tr, points, lam, dg, sol, temperature_k)
+    head, head_reason = _headline(rates, tr.carrier or "charge")
+    statements = _statements(tr, lam, dg, scans, points)
+    statements.append((f"Headline: k = {head['rate_per_s']:.2g} s-1 at {temperature_k:g} K ({head_reason})."
+                       if head else f"No rate constant is quoted: {head_reason}."))
     return {
         "name": tr.name, "kind": tr.kind, "carrier": tr.carrier, "carrier_reason": tr.carrier_reason,
         "donor_site": tr.donor_site, "acceptor_site": tr.acceptor_site, "note": tr.note,
@@ -356,10 +405,10 @@ def transfer_entry(project, tr, temperature_k: float) -> dict:
         "driving_force": {"source": tr.driving_force, "quantity": "electronic energy difference" if
                           tr.driving_force != "symmetry" else "zero by symmetry", "rungs": dg_rungs, "quoted": dg},
         "couplings": points, "scans": scans, "solvent": sol,
-        "rates": _rates(tr, points, lam, dg, sol, temperature_k), "missing": missing,
+        "rates": rates, "headline_rate": head, "headline_reason": head_reason, "missing": missing,
         "nuclear_frequency": ({"value_cm1": tr.nuclear_frequency_cm1, "source": tr.nuclear_frequency_source}
                               if tr.nuclear_frequency_cm1 is not None else None),
-        "statements": _statements(tr, lam, dg, scans, points),
+        "statements": statements,
     }
 
 

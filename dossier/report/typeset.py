@@ -27,6 +27,7 @@ _TOKENS: list[tuple[str, str]] = [
     (r"&lt;S\^2&gt;", "⟨S²⟩"),
     (r"\bsigma_TS\b", "σ<sub>TS</sub>"), (r"\bsigma_R\b", "σ<sub>R</sub>"), (r"\bk_hop\b", "k<sub>hop</sub>"),
     (r"\bangstrom\b", "Å"), (r"(?<=\d) A\b", " Å"), (r"\bbeta\b", "β"), (r" -&gt; ", " → "),
+    (r" &gt;= ", " ≥ "), (r" &lt;= ", " ≤ "),
     (r"\bdG\*_ad\b", "ΔG<sup>‡</sup><sub>ad</sub>"),
     (r"\bdG_act\b", "ΔG<sup>‡</sup>"), (r"\bdE_act\b", "ΔE<sup>‡</sup>"), (r"\bdH_act\b", "ΔH<sup>‡</sup>"),
     (r"\bdG0\b", "ΔG°"), (r"\bdH0\b", "ΔH°"), (r"\bdE0\b", "ΔE<sub>0</sub>"),
