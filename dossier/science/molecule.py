@@ -211,6 +211,21 @@ def detect_symmetry(
         centro = _Matcher(x, labels, tol)(-np.eye(3))
         return SymmetryInfo("D*h" if centro else "C*v", 2 if centro else 1, True, tol, 0)
 
+    tests = _candidate_axes(x, labels, moments, axes, tol, max_order)
+    maps = _Matcher(x, labels, tol)
+    ops = _kept_operations(tests, maps)
+    group = _close_group(ops, maps)
+    proper = [g for g in group if np.linalg.det(g) > 0]
+    sigma = len(proper)
+    return SymmetryInfo(_schoenflies(group, proper), sigma, False, tol, len(group))
+
+
+def _candidate_axes(
+    x: np.ndarray, labels: np.ndarray, moments: np.ndarray, axes: np.ndarray, tol: float, max_order: int
+) -> list[tuple[np.ndarray, Sequence[int]]]:
+    """Candidate symmetry axes of a non-linear molecule (centred at its centre of mass), each with the
+    rotation orders to test, chosen from its kind of top (see detect_symmetry)."""
+    n = len(x)
     scale = max(moments[2], 1e-12)
     low_pair = (moments[1] - moments[0]) < 0.05 * scale
     high_pair = (moments[2] - moments[1]) < 0.05 * scale
@@ -239,10 +254,13 @@ def detect_symmetry(
         in_plane = [v - (v @ u) * u for v in pair_vectors]
         in_plane += [np.cross(u, v) for v in in_plane]
         tests += [(v, (2,)) for v in _unique_axes(in_plane, 1e-3)]
+    return tests
 
+
+def _kept_operations(tests: list[tuple[np.ndarray, Sequence[int]]], maps: _Matcher) -> list[np.ndarray]:
+    """The inversion, mirrors, C_n and S_2n about the candidate axes that map the molecule onto itself."""
     ops: list[np.ndarray] = []
     inversion = -np.eye(3)
-    maps = _Matcher(x, labels, tol)
     if maps(inversion):
         ops.append(inversion)
     seen: set[tuple[int, int, int]] = set()
@@ -267,10 +285,7 @@ def detect_symmetry(
             improper = mirror @ _rotation_matrix(axis, math.pi / k)  # S_2k
             if maps(improper):
                 ops.append(improper)
-    group = _close_group(ops, maps)
-    proper = [g for g in group if np.linalg.det(g) > 0]
-    sigma = len(proper)
-    return SymmetryInfo(_schoenflies(group, proper), sigma, False, tol, len(group))
+    return ops
 
 
 def _rotation_order_and_axis(m: np.ndarray) -> tuple[int, np.ndarray | None]:
