@@ -64,17 +64,7 @@ def _pathway_entry(ctx, pw) -> dict:
                            temps, ctx.t_ref, sym)
     barrier = _chosen_energy_route(barrier_routes, p.recipes[bar_recipe].thermal == "frequencies", True)
 
-    try:
-        modes = _mode_analysis(ctx, pw)
-    except _Unavailable as exc:
-        modes = None
-        missing.append({"parameter": "reorganization_energy", "route": "normal-mode-projection", "reason": str(exc)})
-    lam_routes, lam_missing, fit = _lambda_routes(ctx, pw, modes)
-    ctx._lam_routes = lam_routes
-    lam = _choose(lam_routes, LAMBDA_PREFERENCE)
-    hab_routes, hab_missing = _coupling_routes(ctx, pw, lam, fit)
-    hab = _choose(hab_routes, COUPLING_PREFERENCE)
-    missing += lam_missing + hab_missing
+    modes, lam_routes, lam, hab_routes, hab = _lambda_and_coupling(ctx, pw, missing)
 
     rd = applicability.robin_day_assessment(hab["value_cm1"] if hab else None, lam["value_kj_mol"] if lam else None,
                                             _double_well(ctx, pw), _surface_barriers(db_bar))
@@ -88,13 +78,7 @@ def _pathway_entry(ctx, pw) -> dict:
         rate_missing = [m for m in rate_missing if m["model"] != MODEL_MLJ] + [{"model": MODEL_MLJ, "reason": mlj_reason}]
 
     def inputs_at(ts_: list[float]) -> _RateInputs:
-        d = _driving_and_barrier(ctx, pw, df_recipe, ts_)
-        b = d if bar_recipe == df_recipe else _driving_and_barrier(ctx, pw, bar_recipe, ts_)
-        dr = _chosen_energy_route(d["driving_force"], p.recipes[df_recipe].thermal == "frequencies", False)
-        return _RateInputs(driving=zero_driving(dr, ts_, ctx.t_ref, sym),
-                           barrier=_chosen_energy_route(b["barrier"], p.recipes[bar_recipe].thermal == "frequencies", True),
-                           lam=lam, hab=hab, mlj=mlj, nu_n_cm1=nu_n, levels=levels,
-                           zpe_barrier=_pick(b["barrier"], "ts-electronic+zpe"), hop_factor=hop)
+        return _rate_inputs_at(ctx, pw, sym, inp, ts_)
 
     lz = _landau_zener_series(hab, lam, nu_n, temps)
 
@@ -130,13 +114,48 @@ def _pathway_entry(ctx, pw) -> dict:
         "arrhenius": _arrhenius(ctx, pw, inputs_at),
         "ladder": ladder,
     }
+    _attach_experiment(ctx, entry)
+    return entry
+
+
+def _lambda_and_coupling(ctx, pw, missing: list[dict]) -> tuple:
+    """The normal-mode analysis, the reorganization-energy and coupling routes and the chosen ones:
+    (modes, lam_routes, lam, hab_routes, hab). Routes that could not be computed are appended to `missing`."""
+    try:
+        modes = _mode_analysis(ctx, pw)
+    except _Unavailable as exc:
+        modes = None
+        missing.append({"parameter": "reorganization_energy", "route": "normal-mode-projection", "reason": str(exc)})
+    lam_routes, lam_missing, fit = _lambda_routes(ctx, pw, modes)
+    ctx._lam_routes = lam_routes
+    lam = _choose(lam_routes, LAMBDA_PREFERENCE)
+    hab_routes, hab_missing = _coupling_routes(ctx, pw, lam, fit)
+    hab = _choose(hab_routes, COUPLING_PREFERENCE)
+    missing += lam_missing + hab_missing
+    return modes, lam_routes, lam, hab_routes, hab
+
+
+def _rate_inputs_at(ctx, pw, sym, inp: _RateInputs, ts_: list[float]) -> _RateInputs:
+    """`inp` with the driving force and barrier recomputed at the temperatures `ts_` (for the Arrhenius fit)."""
+    p = ctx.project
+    df_recipe, bar_recipe = pw.levels.get("driving_force", pw.recipe), pw.levels.get("barrier", pw.recipe)
+    d = _driving_and_barrier(ctx, pw, df_recipe, ts_)
+    b = d if bar_recipe == df_recipe else _driving_and_barrier(ctx, pw, bar_recipe, ts_)
+    dr = _chosen_energy_route(d["driving_force"], p.recipes[df_recipe].thermal == "frequencies", False)
+    return _RateInputs(driving=zero_driving(dr, ts_, ctx.t_ref, sym),
+                       barrier=_chosen_energy_route(b["barrier"], p.recipes[bar_recipe].thermal == "frequencies", True),
+                       lam=inp.lam, hab=inp.hab, mlj=inp.mlj, nu_n_cm1=inp.nu_n_cm1, levels=inp.levels,
+                       zpe_barrier=_pick(b["barrier"], "ts-electronic+zpe"), hop_factor=inp.hop_factor)
+
+
+def _attach_experiment(ctx, entry: dict) -> None:
+    """Add the comparison with the project's measurements, when it has any, to a pathway entry."""
     if ctx.experiment_data is not None:
         from dossier.analysis import experiment as comparison
 
         comparison = comparison.compare_pathway(entry, ctx.experiment_data, ctx.uncertainty)
         if comparison is not None:
             entry["experiment"] = comparison
-    return entry
 
 
 def _landau_zener_series(hab: dict | None, lam: dict | None, nu_n: float | None, temps: list[float]) -> list[dict]:

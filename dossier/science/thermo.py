@@ -342,6 +342,46 @@ def _electronic_contribution(multiplicity: int, t: float) -> Contribution:
     return Contribution(0.0, 0.0, s_e, 0.0, -t * s_e / _J_MOL_PER_HARTREE)
 
 
+def _geometry_and_masses(
+    elements: Sequence[str], coordinates_angstrom, masses: str, masses_amu: Sequence[float] | None
+) -> tuple[np.ndarray, list[float]]:
+    """Coordinates as an (N, 3) array and the atomic masses (given, or from the element table)."""
+    x = np.asarray(coordinates_angstrom, dtype=float).reshape(-1, 3)
+    n_atoms = len(x)
+    if n_atoms == 0 or len(elements) != n_atoms:
+        raise ThermoError(f"{len(elements)} elements but {n_atoms} coordinates")
+    return x, list(masses_amu) if masses_amu is not None else atomic_masses_amu(elements, masses)
+
+
+def _checked_wavenumbers(wavenumbers_cm1: Sequence[float], n_atoms: int, linear: bool, check: bool) -> list[float]:
+    """The wavenumbers as floats; with `check`, exactly 3N-6 (3N-5 if linear) of them or a ThermoError."""
+    expected = 0 if n_atoms == 1 else (3 * n_atoms - 5 if linear else 3 * n_atoms - 6)
+    waves = [float(w) for w in wavenumbers_cm1]
+    if check and len(waves) != expected:
+        raise ThermoError(
+            f"expected {expected} vibrational wavenumbers (3N-{5 if linear else 6} for "
+            f"{'a linear' if linear else 'a nonlinear'} molecule of {n_atoms} atoms), got {len(waves)}; "
+            "translations and rotations must be removed"
+        )
+    return waves
+
+
+def _summed_corrections(contributions: dict[str, Contribution], t: float) -> dict[str, float]:
+    """ThermoResult's totals: U, H and G corrections (hartree), S and Cv (J/mol/K); G = H - T S."""
+    u_corr = sum(c.energy_hartree for c in contributions.values())
+    h_corr = sum(c.enthalpy_hartree for c in contributions.values())
+    s_tot = sum(c.entropy_j_mol_k for c in contributions.values())
+    cv_tot = sum(c.heat_capacity_j_mol_k for c in contributions.values())
+    g_corr = h_corr - t * s_tot / _J_MOL_PER_HARTREE
+    return {
+        "thermal_energy_correction_hartree": u_corr,
+        "enthalpy_correction_hartree": h_corr,
+        "gibbs_correction_hartree": g_corr,
+        "entropy_j_mol_k": s_tot,
+        "heat_capacity_cv_j_mol_k": cv_tot,
+    }
+
+
 def rrho(
     elements: Sequence[str],
     coordinates_angstrom,
@@ -378,11 +418,8 @@ def rrho(
     H = E_el + ZPE + E_t + E_r + E_v(T) + k T; G = H - T S (Ochterski 2000, "thermochemistry output" section).
     """
     _check_settings(qrrho, temperature_k, frequency_scale, multiplicity)
-    x = np.asarray(coordinates_angstrom, dtype=float).reshape(-1, 3)
+    x, m_amu = _geometry_and_masses(elements, coordinates_angstrom, masses, masses_amu)
     n_atoms = len(x)
-    if n_atoms == 0 or len(elements) != n_atoms:
-        raise ThermoError(f"{len(elements)} elements but {n_atoms} coordinates")
-    m_amu = list(masses_amu) if masses_amu is not None else atomic_masses_amu(elements, masses)
     mass_total = float(sum(m_amu))
 
     p, state_label = _pressure(pressure_pa, standard_state, temperature_k)
@@ -392,14 +429,7 @@ def rrho(
     notes: list[str] = []
     sigma, source, point_group = _symmetry_number(elements, x, m_amu, symmetry_number, symmetry_tolerance_angstrom)
 
-    expected = 0 if n_atoms == 1 else (3 * n_atoms - 5 if linear else 3 * n_atoms - 6)
-    waves = [float(w) for w in wavenumbers_cm1]
-    if check_mode_count and len(waves) != expected:
-        raise ThermoError(
-            f"expected {expected} vibrational wavenumbers (3N-{5 if linear else 6} for "
-            f"{'a linear' if linear else 'a nonlinear'} molecule of {n_atoms} atoms), got {len(waves)}; "
-            "translations and rotations must be removed"
-        )
+    waves = _checked_wavenumbers(wavenumbers_cm1, n_atoms, linear, check_mode_count)
     imaginary, real, used = _modes_used(waves, frequency_scale, qrrho, truhlar_raise_cm1, notes)
 
     t = float(temperature_k)
@@ -408,11 +438,6 @@ def rrho(
     elec = _electronic_contribution(multiplicity, t)
 
     contributions = {"translational": trans, "rotational": rot, "vibrational": vib, "electronic": elec}
-    u_corr = sum(c.energy_hartree for c in contributions.values())
-    h_corr = sum(c.enthalpy_hartree for c in contributions.values())
-    s_tot = sum(c.entropy_j_mol_k for c in contributions.values())
-    cv_tot = sum(c.heat_capacity_j_mol_k for c in contributions.values())
-    g_corr = h_corr - t * s_tot / _J_MOL_PER_HARTREE
     return ThermoResult(
         temperature_k=t,
         pressure_pa=p,
@@ -431,11 +456,7 @@ def rrho(
         imaginary_cm1=imaginary,
         wavenumbers_used_cm1=used,
         zpe_hartree=zpe_h,
-        thermal_energy_correction_hartree=u_corr,
-        enthalpy_correction_hartree=h_corr,
-        gibbs_correction_hartree=g_corr,
-        entropy_j_mol_k=s_tot,
-        heat_capacity_cv_j_mol_k=cv_tot,
+        **_summed_corrections(contributions, t),
         contributions=contributions,
         modes=modes,
         notes=notes,
