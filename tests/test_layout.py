@@ -71,3 +71,22 @@ def test_every_stage_package_says_what_it_owns_and_may_import():
     for stage in ("reading", "project", "science", "analysis", "report", "archive"):
         doc = ast.get_docstring(ast.parse((PACKAGE / stage / "__init__.py").read_text(encoding="utf-8"))) or ""
         assert "import" in doc and len(doc) > 200, stage
+
+
+#: Size limits of issue 11 (a function that needs more than a screen is two functions; common practice, no source).
+MAX_FUNCTION_LINES = 80
+MAX_MODULE_LINES = 600
+
+
+def test_no_function_over_a_screen_and_no_module_over_the_limit():
+    too_long = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        text = path.read_text(encoding="utf-8")
+        if len(text.splitlines()) > MAX_MODULE_LINES:
+            too_long.append(f"{path.relative_to(PACKAGE)}: {len(text.splitlines())} lines")
+        for node in ast.walk(ast.parse(text)):
+            if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)):
+                n = node.end_lineno - node.lineno + 1
+                if n > MAX_FUNCTION_LINES:
+                    too_long.append(f"{path.relative_to(PACKAGE)}:{node.lineno} {node.name}: {n} lines")
+    assert not too_long, too_long
