@@ -30,7 +30,7 @@ from dossier.reading import cache as _cache
 from dossier.reading import files as _files
 from dossier.reading.cache import READER_VERSION, default_cache_dir
 from dossier.reading.coordfile import adopt_coordinate_file
-from dossier.reading.detect import SUPPORTED, identify
+from dossier.reading.detect import SUPPORTED, identify, not_a_log
 from dossier.reading.jobs import job_name, split_jobs, split_name
 from dossier.reading.parallel import read_many
 from dossier.records import Calculation, Source
@@ -41,15 +41,26 @@ __all__ = ["read", "read_jobs", "read_many", "every_job", "find_outputs", "READE
 OUTPUT_SUFFIXES = tuple(f"{s}{z}" for s in (".out", ".log", ".output") for z in ("", ".gz", ".bz2", ".xz"))
 
 
+def refusal(text: str) -> str | None:
+    """Why a text is refused before any parsing (not a calculation log, an unsupported program, no
+    known banner), from its head alone; None when a supported program wrote it."""
+    refused = not_a_log(text)
+    if refused:
+        return refused
+    program, unsupported = identify(text)
+    if program is not None:
+        return None
+    if unsupported:
+        return f"{unsupported} output: this program is not supported (supported: {', '.join(SUPPORTED)})"
+    return "not a quantum-chemistry output (no known program banner found)"
+
+
 def _parse_jobs(text: str, where: str, source: Source) -> list[Calculation]:
     """Every job of a log's text as its own record (one for a single-job file)."""
-    program, unsupported = identify(text)
-    if program is None:
-        if unsupported:
-            raise ReadError(
-                f"{unsupported} output: this program is not supported (supported: {', '.join(SUPPORTED)})", where
-            )
-        raise ReadError("not a quantum-chemistry output (no known program banner found)", where)
+    refused = refusal(text)
+    if refused:
+        raise ReadError(refused, where)
+    program, _ = identify(text)
     from dossier.reading.build import build_record
 
     parts = split_jobs(text, program)

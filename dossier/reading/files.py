@@ -114,6 +114,11 @@ def load_bytes(path: Path, where: str, max_bytes: int | None = None) -> bytes:
     return raw
 
 
+def is_compressed(raw: bytes) -> bool:
+    """True when the bytes start like a gzip, bzip2 or xz file."""
+    return any(raw.startswith(magic) for magic, _, _ in _COMPRESSED)
+
+
 def decompress(raw: bytes, where: str, max_bytes: int | None = None) -> tuple[bytes, str | None]:
     """(content, "gzip" | "bzip2" | "xz") for a compressed file, (raw, None) otherwise; capped."""
     cap = max_bytes if max_bytes is not None else max_bytes_default()

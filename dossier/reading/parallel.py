@@ -45,10 +45,27 @@ def _cached_only(path, cache_dir):
         sha = hashlib.sha256(raw).hexdigest()
         hits = cache.load_jobs(cache_dir, sha)
         if hits is None:
-            return None
+            return _refused_by_head(raw, file_part)
         return adopt_coordinate_file(pick_job([_with_source(c, file_part, sha, len(raw)) for c in hits], file_part, job))
     except (ReadError, OSError):
         return None
+
+
+def _refused_by_head(raw: bytes, where: str) -> ReadError | None:
+    """A plain-text file refused from its head alone (dossier.reading.refusal), without parsing: the
+    refusal is then known here and no worker (nor cclib) is started for it. Compressed files and
+    anything else go to the full read."""
+    from dossier.reading import files, refusal
+    from dossier.reading.detect import HEAD_CHARS
+
+    if files.is_compressed(raw):
+        return None
+    try:
+        text, _ = files.decode(raw[: 4 * HEAD_CHARS], where)
+    except ReadError:
+        return None
+    reason = refusal(text[:HEAD_CHARS])
+    return ReadError(reason, where) if reason else None
 
 
 def default_jobs() -> int:
