@@ -75,16 +75,21 @@ def check_not_input(target: Path, inputs: Iterable[str | os.PathLike], *, folder
                               "choose a folder of its own", where=str(target))
 
 
+def _lstat(path: Path) -> os.stat_result | None:
+    """The target's own status (a link is not followed), None when nothing is there."""
+    try:
+        return os.lstat(path)
+    except FileNotFoundError:
+        return None
+    except OSError as exc:
+        raise TargetError(f"cannot be used as output ({exc.strerror or exc})", where=str(path)) from None
+
+
 def check_file_target(target: str | os.PathLike, inputs: Iterable[str | os.PathLike] = (), *,
                       hint: str = "give a file name", parent_must_exist: bool = False) -> Path:
     """Absolute path of a file target that may be replaced by a rename (see module docstring)."""
     path = Path(os.path.abspath(target))
-    try:
-        st = os.lstat(path)
-    except FileNotFoundError:
-        st = None
-    except OSError as exc:
-        raise TargetError(f"cannot be used as output ({exc.strerror or exc})", where=str(path)) from None
+    st = _lstat(path)
     if st is not None and not stat.S_ISREG(st.st_mode):
         raise TargetError(f"exists and is {_kind(st.st_mode)}, not a regular file; not replaced ({hint})",
                           where=str(path))
@@ -98,12 +103,7 @@ def check_file_target(target: str | os.PathLike, inputs: Iterable[str | os.PathL
 def check_folder_target(target: str | os.PathLike, inputs: Iterable[str | os.PathLike], marker: str) -> Path:
     """Absolute path of an output folder that may be replaced as a whole (absent, empty, or a build)."""
     path = Path(os.path.abspath(target))
-    try:
-        st = os.lstat(path)
-    except FileNotFoundError:
-        st = None
-    except OSError as exc:
-        raise TargetError(f"cannot be used as output ({exc.strerror or exc})", where=str(path)) from None
+    st = _lstat(path)
     if st is not None:
         if not stat.S_ISDIR(st.st_mode):
             raise TargetError(f"exists and is {_kind(st.st_mode)}, not a folder; not replaced", where=str(path))
