@@ -16,7 +16,7 @@ import sys
 import warnings
 
 from dossier import __version__, commands
-from dossier.errors import DossierError
+from dossier.errors import DossierError, Terminated, request_termination
 
 EXIT_OK = 0
 EXIT_FINDINGS = 1  # the command ran and found problems (check errors, verify failures)
@@ -54,12 +54,17 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
     return parser
 
 
-class Terminated(KeyboardInterrupt):
-    """SIGTERM (a queue's kill, `kill PID`), raised like Ctrl-C so the same clean-up runs."""
-
-
 def _on_sigterm(signum, frame):  # noqa: ARG001 - signal handler signature
+    request_termination()
     raise Terminated()
+
+
+def _quiet_unraisable(unraisable) -> None:
+    """A SIGTERM landing while a finalizer runs cannot propagate from there; the request is remembered
+    (dossier.errors.raise_if_terminated stops the work), so say nothing here instead of a traceback."""
+    if isinstance(unraisable.exc_value, Terminated):
+        return
+    sys.__unraisablehook__(unraisable)
 
 
 def _one_line_warning(message, category, filename, lineno, file=None, line=None):  # noqa: ARG001
@@ -79,6 +84,7 @@ def main(argv: list[str] | None = None) -> int:
     previous = signal.getsignal(signal.SIGTERM)
     try:
         signal.signal(signal.SIGTERM, _on_sigterm)
+        sys.unraisablehook = _quiet_unraisable
     except ValueError:  # not the main thread (tests calling main() from a thread): leave it
         previous = None
     try:
@@ -102,6 +108,7 @@ def main(argv: list[str] | None = None) -> int:
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
+            sys.unraisablehook = sys.__unraisablehook__
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -44,3 +44,24 @@ class ChecksFailed(BuildError):
     def __init__(self, reason: str, errors: list[dict], where: str | None = None):
         super().__init__(reason, where=where)
         self.errors = errors
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM (a queue's kill, `kill PID`), raised like Ctrl-C so the same clean-up runs."""
+
+
+_termination_requested = False
+
+
+def request_termination() -> None:
+    """Called by the SIGTERM handler before it raises Terminated. Python drops an exception raised
+    while a finalizer runs ("Exception ignored in ..."), so the request is also remembered here."""
+    global _termination_requested
+    _termination_requested = True
+
+
+def raise_if_terminated() -> None:
+    """Raise Terminated if a SIGTERM arrived, even one whose exception a finalizer swallowed; long
+    work calls this before each step that cannot be undone (renaming a finished dossier into place)."""
+    if _termination_requested:
+        raise Terminated()

@@ -44,7 +44,7 @@ from dossier.archive.common import (
     README_NAME, Progress, _check_member_name, _fixed_mtime, _package_version, _say, _source_entries, sha256_file,
 )
 from dossier.archive.sign import NAMESPACE, SIG_SUFFIX, sign_file
-from dossier.errors import ArchiveError
+from dossier.errors import ArchiveError, raise_if_terminated
 from dossier.reading.files import refuse_special
 from dossier.reading.jobs import split_name
 from dossier.report.targets import check_file_target
@@ -358,6 +358,7 @@ def _write_tar_gz(
         os.chmod(tmp, 0o644 & ~_umask())
         if before_rename is not None:
             before_rename(tmp)
+        raise_if_terminated()
         os.replace(tmp, target)
     except BaseException:
         tmp.unlink(missing_ok=True)

@@ -22,7 +22,7 @@ from pathlib import Path
 from typing import Callable, Iterable
 
 from dossier import __version__
-from dossier.errors import BuildError, ChecksFailed
+from dossier.errors import BuildError, ChecksFailed, raise_if_terminated
 
 ALL_FORMATS = ("html", "pdf", "json", "csv", "xyz", "tex", "bib")
 #: The file that marks a folder as a dossier build (only such folders are replaced).
@@ -260,6 +260,7 @@ def build_dossier(manifest_path, out_dir=None, *, formats: Iterable[str] = ALL_F
         written = _write_formats(data, tmp, formats, manifest_path=manifest_path, templates_dir=templates_dir,
                                  png=png, numbered_atoms=numbered_atoms, say=say, timings=timings)
         t0 = time.perf_counter()
+        raise_if_terminated()  # a SIGTERM swallowed by a finalizer still stops the build here
         _swap_in(tmp, out_dir)
         timings["swap"] = time.perf_counter() - t0
     except BaseException:
