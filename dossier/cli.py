@@ -16,7 +16,7 @@ import sys
 import warnings
 
 from dossier import __version__, commands
-from dossier.errors import DossierError, Terminated, request_termination
+from dossier.errors import DossierError, Terminated, clear_termination, request_termination
 
 EXIT_OK = 0
 EXIT_FINDINGS = 1  # the command ran and found problems (check errors, verify failures)
@@ -55,14 +55,19 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
 
 
 def _on_sigterm(signum, frame):  # noqa: ARG001 - signal handler signature
-    request_termination()
+    request_termination(Terminated)
     raise Terminated()
 
 
+def _on_sigint(signum, frame):  # noqa: ARG001 - signal handler signature
+    request_termination(KeyboardInterrupt)
+    raise KeyboardInterrupt()
+
+
 def _quiet_unraisable(unraisable) -> None:
-    """A SIGTERM landing while a finalizer runs cannot propagate from there; the request is remembered
+    """A SIGTERM or Ctrl-C landing while a finalizer runs cannot propagate from there; the request is remembered
     (dossier.errors.raise_if_terminated stops the work), so say nothing here instead of a traceback."""
-    if isinstance(unraisable.exc_value, Terminated):
+    if isinstance(unraisable.exc_value, KeyboardInterrupt):  # Terminated too
         return
     sys.__unraisablehook__(unraisable)
 
@@ -81,9 +86,11 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "_run", None):
         parser.print_help(sys.stderr)
         return EXIT_ERROR
-    previous = signal.getsignal(signal.SIGTERM)
+    clear_termination()
+    previous = signal.getsignal(signal.SIGTERM), signal.getsignal(signal.SIGINT)
     try:
         signal.signal(signal.SIGTERM, _on_sigterm)
+        signal.signal(signal.SIGINT, _on_sigint)
         sys.unraisablehook = _quiet_unraisable
     except ValueError:  # not the main thread (tests calling main() from a thread): leave it
         previous = None
@@ -107,7 +114,8 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_OK
     finally:
         if previous is not None:
-            signal.signal(signal.SIGTERM, previous)
+            signal.signal(signal.SIGTERM, previous[0])
+            signal.signal(signal.SIGINT, previous[1])
             sys.unraisablehook = sys.__unraisablehook__
 
 

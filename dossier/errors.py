@@ -50,18 +50,26 @@ class Terminated(KeyboardInterrupt):
     """SIGTERM (a queue's kill, `kill PID`), raised like Ctrl-C so the same clean-up runs."""
 
 
-_termination_requested = False
+_stop_requested: type[KeyboardInterrupt] | None = None
 
 
-def request_termination() -> None:
-    """Called by the SIGTERM handler before it raises Terminated. Python drops an exception raised
-    while a finalizer runs ("Exception ignored in ..."), so the request is also remembered here."""
-    global _termination_requested
-    _termination_requested = True
+def request_termination(kind: type[KeyboardInterrupt] = Terminated) -> None:
+    """Called by the SIGTERM (Terminated) and SIGINT (KeyboardInterrupt) handlers before they raise.
+    Python drops an exception raised while a finalizer runs ("Exception ignored in ..."), so the
+    request is also remembered here."""
+    global _stop_requested
+    _stop_requested = kind
+
+
+def clear_termination() -> None:
+    """Forget an earlier request (a new command run in the same process starts clean)."""
+    global _stop_requested
+    _stop_requested = None
 
 
 def raise_if_terminated() -> None:
-    """Raise Terminated if a SIGTERM arrived, even one whose exception a finalizer swallowed; long
-    work calls this before each step that cannot be undone (renaming a finished dossier into place)."""
-    if _termination_requested:
-        raise Terminated()
+    """Raise the remembered interrupt if SIGTERM or Ctrl-C arrived, even one whose exception a finalizer
+    swallowed; long work calls this before each step that cannot be undone (renaming a finished
+    dossier or archive into place)."""
+    if _stop_requested is not None:
+        raise _stop_requested()
