@@ -5,7 +5,6 @@ data, their inputs beside them, a JSON-only build) and reused.
 """
 from __future__ import annotations
 
-import gzip
 import hashlib
 import io
 import json
@@ -21,7 +20,9 @@ from pathlib import Path
 import pytest
 
 from conftest import fixture_path
-from dossier.archive import bundle as A
+from dossier.archive.common import ARCHIVE_ROOT, CHECKSUMS_NAME, sha256_file
+from dossier.archive.verify import json_differences, verify_archive
+from dossier.archive.write import _manifest_files, build_is_current, write_archive
 from dossier.errors import ArchiveError
 
 NWCHEM = "NWChem/basicNWChem7.0"
@@ -72,7 +73,7 @@ def project(tmp_path_factory):
         build = root / "built"
         build_dossier(manifest, build, formats=("json",))
         out = root / "study.tar.gz"
-        A.write_archive(manifest, out, build_dir=build)
+        write_archive(manifest, out, build_dir=build)
         yield {"root": root, "manifest": manifest, "build": build, "archive": out}
     finally:
         if saved is None:
@@ -96,7 +97,7 @@ def _rewrite(archive: Path, target: Path, members: dict[str, bytes]) -> Path:
 
 
 def _sums(members: dict[str, bytes]) -> dict[str, str]:
-    text = members[f"{A.ARCHIVE_ROOT}/{A.CHECKSUMS_NAME}"].decode()
+    text = members[f"{ARCHIVE_ROOT}/{CHECKSUMS_NAME}"].decode()
     return {line[66:]: line[:64] for line in text.splitlines()}
 
 
@@ -106,14 +107,14 @@ def test_sha256_file_matches_the_published_test_vector(tmp_path):
     # FIPS 180-2, Appendix B.1: SHA-256("abc")
     p = tmp_path / "abc"
     p.write_bytes(b"abc")
-    assert A.sha256_file(p) == "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+    assert sha256_file(p) == "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
 
 
 # -- what is inside -----------------------------------------------------------------
 
 def test_archive_holds_outputs_inputs_manifest_dossier_and_records(project):
     members = _members(project["archive"])
-    root = A.ARCHIVE_ROOT
+    root = ARCHIVE_ROOT
     for name in ("project/dossier.toml", "project/runs/dvb_gopt_ks.out", "project/runs/dvb_ir.out",
                  "project/runs/dvb_un_sp_ks.out", "project/runs/dvb_gopt_ks.in", "project/runs/dvb_ir.in",
                  "project/runs/dvb_un_sp_ks.in", "dossier/dossier.json", "SHA256SUMS", "environment.json",
@@ -129,11 +130,11 @@ def test_archive_holds_outputs_inputs_manifest_dossier_and_records(project):
 def test_checksum_list_covers_every_other_member_with_its_sha256(project):
     members = _members(project["archive"])
     sums = _sums(members)
-    others = {n[len(A.ARCHIVE_ROOT) + 1:] for n in members} - {A.CHECKSUMS_NAME}
+    others = {n[len(ARCHIVE_ROOT) + 1:] for n in members} - {CHECKSUMS_NAME}
     assert set(sums) == others
     for name, digest in sums.items():
         # hashlib (FIPS 180-4) computed here, independently of the archive's own hashing
-        assert hashlib.sha256(members[f"{A.ARCHIVE_ROOT}/{name}"]).hexdigest() == digest
+        assert hashlib.sha256(members[f"{ARCHIVE_ROOT}/{name}"]).hexdigest() == digest
 
 
 def test_checksum_list_is_readable_by_sha256sum(project, tmp_path):
@@ -142,18 +143,18 @@ def test_checksum_list_is_readable_by_sha256sum(project, tmp_path):
         pytest.skip("sha256sum (GNU coreutils) not installed")
     with tarfile.open(project["archive"], "r:gz") as tar:
         tar.extractall(tmp_path, filter="data")
-    done = subprocess.run([sha256sum, "-c", "--strict", A.CHECKSUMS_NAME], cwd=tmp_path / A.ARCHIVE_ROOT,
+    done = subprocess.run([sha256sum, "-c", "--strict", CHECKSUMS_NAME], cwd=tmp_path / ARCHIVE_ROOT,
                           capture_output=True, text=True)
     assert done.returncode == 0, done.stdout + done.stderr
 
 
 def test_environment_names_library_versions_and_the_programs_of_the_records(project):
     members = _members(project["archive"])
-    env = json.loads(members[f"{A.ARCHIVE_ROOT}/environment.json"])
+    env = json.loads(members[f"{ARCHIVE_ROOT}/environment.json"])
     assert env["archived_by"]["python"] == platform.python_version()
     for name in ("cclib", "numpy", "scipy"):
         assert env["archived_by"][name] == metadata.version(name)
-    data = json.loads(members[f"{A.ARCHIVE_ROOT}/dossier/dossier.json"])
+    data = json.loads(members[f"{ARCHIVE_ROOT}/dossier/dossier.json"])
     from_sources = {(s["program"], s["program_version"]) for s in data["sources"]}
     assert {(p["program"], p["version"]) for p in env["programs"]} == {(str(a), str(b)) for a, b in from_sources}
     # the fixture files were written by NWChem 7.0 (fixture README: basicNWChem7.0)
@@ -162,7 +163,7 @@ def test_environment_names_library_versions_and_the_programs_of_the_records(proj
 
 
 def test_readme_says_how_to_verify(project):
-    text = _members(project["archive"])[f"{A.ARCHIVE_ROOT}/README.txt"].decode()
+    text = _members(project["archive"])[f"{ARCHIVE_ROOT}/README.txt"].decode()
     assert "dossier verify" in text and "sha256sum -c SHA256SUMS" in text
 
 
@@ -170,15 +171,15 @@ def test_readme_says_how_to_verify(project):
 
 def test_two_archives_of_the_same_project_are_identical(project, tmp_path):
     again = tmp_path / "again.tar.gz"
-    A.write_archive(project["manifest"], again, build_dir=project["build"])
+    write_archive(project["manifest"], again, build_dir=project["build"])
     assert again.read_bytes() == project["archive"].read_bytes()
 
 
 @pytest.mark.slow
 def test_two_archives_with_fresh_builds_are_identical(project, tmp_path):
     one, two = tmp_path / "one.tar.gz", tmp_path / "two.tar.gz"
-    A.write_archive(project["manifest"], one, formats=("json",))
-    A.write_archive(project["manifest"], two, formats=("json",))
+    write_archive(project["manifest"], one, formats=("json",))
+    write_archive(project["manifest"], two, formats=("json",))
     assert one.read_bytes() == two.read_bytes()
 
 
@@ -194,7 +195,7 @@ def test_gzip_and_tar_headers_carry_no_time_name_or_owner(project, monkeypatch, 
     assert all(m.mtime == 0 and m.uid == 0 and m.gid == 0 and m.uname == "" and m.gname == "" for m in infos)
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1764547200")
     dated = tmp_path / "dated.tar.gz"
-    A.write_archive(project["manifest"], dated, build_dir=project["build"])
+    write_archive(project["manifest"], dated, build_dir=project["build"])
     with tarfile.open(dated, "r:gz") as tar:
         assert {m.mtime for m in tar.getmembers()} == {1764547200}
 
@@ -202,19 +203,19 @@ def test_gzip_and_tar_headers_carry_no_time_name_or_owner(project, monkeypatch, 
 # -- verification -----------------------------------------------------------------
 
 def test_untouched_archive_verifies(project):
-    report = A.verify_archive(project["archive"])
+    report = verify_archive(project["archive"])
     assert report.ok, report.lines()
     assert report.checked == len(_members(project["archive"])) - 1
 
 
 def test_one_altered_byte_fails_and_is_named(project, tmp_path):
     members = _members(project["archive"])
-    victim = f"{A.ARCHIVE_ROOT}/project/runs/dvb_ir.out"
+    victim = f"{ARCHIVE_ROOT}/project/runs/dvb_ir.out"
     body = bytearray(members[victim])
     body[len(body) // 2] ^= 0x01
     members[victim] = bytes(body)
     bad = _rewrite(project["archive"], tmp_path / "bad.tar.gz", members)
-    report = A.verify_archive(bad)
+    report = verify_archive(bad)
     assert not report.ok
     assert report.altered == [victim]
     done = _cli("verify", str(bad))
@@ -225,11 +226,11 @@ def test_one_altered_byte_fails_and_is_named(project, tmp_path):
 
 def test_missing_and_unexpected_members_are_named(project, tmp_path):
     members = _members(project["archive"])
-    gone = f"{A.ARCHIVE_ROOT}/project/runs/dvb_gopt_ks.in"
+    gone = f"{ARCHIVE_ROOT}/project/runs/dvb_gopt_ks.in"
     del members[gone]
-    extra = f"{A.ARCHIVE_ROOT}/project/runs/smuggled.out"
+    extra = f"{ARCHIVE_ROOT}/project/runs/smuggled.out"
     members[extra] = b"not in the checksum list\n"
-    report = A.verify_archive(_rewrite(project["archive"], tmp_path / "bad.tar.gz", members))
+    report = verify_archive(_rewrite(project["archive"], tmp_path / "bad.tar.gz", members))
     assert report.missing == [gone]
     assert report.unexpected == [extra]
     assert not report.ok
@@ -240,12 +241,12 @@ def test_source_changed_with_its_checksum_is_caught_by_dossier_json(project, tmp
     # SHA-256 it was built from still disagrees.
     members = _members(project["archive"])
     victim = "project/runs/dvb_ir.out"
-    members[f"{A.ARCHIVE_ROOT}/{victim}"] += b"\n"
+    members[f"{ARCHIVE_ROOT}/{victim}"] += b"\n"
     sums = _sums(members)
-    sums[victim] = hashlib.sha256(members[f"{A.ARCHIVE_ROOT}/{victim}"]).hexdigest()
-    members[f"{A.ARCHIVE_ROOT}/{A.CHECKSUMS_NAME}"] = "".join(
+    sums[victim] = hashlib.sha256(members[f"{ARCHIVE_ROOT}/{victim}"]).hexdigest()
+    members[f"{ARCHIVE_ROOT}/{CHECKSUMS_NAME}"] = "".join(
         f"{sums[n]}  {n}\n" for n in sorted(sums)).encode()
-    report = A.verify_archive(_rewrite(project["archive"], tmp_path / "bad.tar.gz", members))
+    report = verify_archive(_rewrite(project["archive"], tmp_path / "bad.tar.gz", members))
     assert not report.altered
     assert any(victim in p and "dossier.json" in p for p in report.problems), report.problems
 
@@ -255,7 +256,7 @@ def test_damaged_archive_is_a_one_line_error(project, tmp_path):
     raw = project["archive"].read_bytes()
     cut.write_bytes(raw[: len(raw) // 2])
     with pytest.raises(ArchiveError) as err:
-        A.verify_archive(cut)
+        verify_archive(cut)
     assert str(cut) in str(err.value)
     not_gz = tmp_path / "plain.tar.gz"
     not_gz.write_text("hello\n")
@@ -269,7 +270,7 @@ def test_damaged_archive_is_a_one_line_error(project, tmp_path):
 
 def _hostile(path: Path, add) -> Path:
     with tarfile.open(path, "w:gz") as tar:
-        ok = tarfile.TarInfo(f"{A.ARCHIVE_ROOT}/README.txt")
+        ok = tarfile.TarInfo(f"{ARCHIVE_ROOT}/README.txt")
         ok.size = 3
         tar.addfile(ok, io.BytesIO(b"hi\n"))
         add(tar)
@@ -309,16 +310,16 @@ def test_hostile_archive_is_refused_and_nothing_is_written_outside(case, tmp_pat
     outside = tmp_path / "escaped"
     adders = {
         "dotdot": _file("../escaped"),
-        "dotdot-inside": _file(f"{A.ARCHIVE_ROOT}/../../escaped"),
+        "dotdot-inside": _file(f"{ARCHIVE_ROOT}/../../escaped"),
         "absolute": _file(str(outside)),
-        "symlink": _link(f"{A.ARCHIVE_ROOT}/link", str(outside), tarfile.SYMTYPE),
-        "hardlink": _link(f"{A.ARCHIVE_ROOT}/hard", "/etc/passwd", tarfile.LNKTYPE),
-        "device": _device(f"{A.ARCHIVE_ROOT}/null"),
+        "symlink": _link(f"{ARCHIVE_ROOT}/link", str(outside), tarfile.SYMTYPE),
+        "hardlink": _link(f"{ARCHIVE_ROOT}/hard", "/etc/passwd", tarfile.LNKTYPE),
+        "device": _device(f"{ARCHIVE_ROOT}/null"),
     }
     bad = _hostile(tmp_path / f"{case}.tar.gz", adders[case])
     with tarfile.open(bad) as tar:
         hostile_name = tar.getmembers()[-1].name
-    report = A.verify_archive(bad, rebuild=True)
+    report = verify_archive(bad, rebuild=True)
     assert not report.ok
     assert len(report.refused) == 1 and report.refused[0].startswith(f"{hostile_name}: ")
     assert not report.rebuilt
@@ -330,9 +331,9 @@ def test_hostile_archive_is_refused_and_nothing_is_written_outside(case, tmp_pat
 
 
 def test_duplicate_member_names_are_refused(tmp_path):
-    name = f"{A.ARCHIVE_ROOT}/README.txt"
+    name = f"{ARCHIVE_ROOT}/README.txt"
     bad = _hostile(tmp_path / "dup.tar.gz", _file(name, b"second copy\n"))
-    report = A.verify_archive(bad)
+    report = verify_archive(bad)
     assert report.refused == [f"{name}: second member of the same name"]
 
 
@@ -340,7 +341,7 @@ def test_duplicate_member_names_are_refused(tmp_path):
 
 @pytest.mark.slow
 def test_rebuild_of_an_untouched_archive_agrees(project):
-    report = A.verify_archive(project["archive"], rebuild=True)
+    report = verify_archive(project["archive"], rebuild=True)
     assert report.rebuilt
     assert report.ok, report.lines()
 
@@ -348,14 +349,14 @@ def test_rebuild_of_an_untouched_archive_agrees(project):
 @pytest.mark.slow
 def test_rebuild_reports_a_changed_number_by_its_key(project, tmp_path):
     members = _members(project["archive"])
-    name = f"{A.ARCHIVE_ROOT}/dossier/dossier.json"
+    name = f"{ARCHIVE_ROOT}/dossier/dossier.json"
     data = json.loads(members[name])
     data["project"]["temperatures_k"] = [310.0]
     members[name] = json.dumps(data).encode()
     sums = _sums(members)
     sums["dossier/dossier.json"] = hashlib.sha256(members[name]).hexdigest()
-    members[f"{A.ARCHIVE_ROOT}/{A.CHECKSUMS_NAME}"] = "".join(f"{sums[n]}  {n}\n" for n in sorted(sums)).encode()
-    report = A.verify_archive(_rewrite(project["archive"], tmp_path / "edited.tar.gz", members), rebuild=True)
+    members[f"{ARCHIVE_ROOT}/{CHECKSUMS_NAME}"] = "".join(f"{sums[n]}  {n}\n" for n in sorted(sums)).encode()
+    report = verify_archive(_rewrite(project["archive"], tmp_path / "edited.tar.gz", members), rebuild=True)
     assert report.rebuilt
     assert any(d.startswith("project.temperatures_k[0]: 310.0 -> 298.15") for d in report.rebuild_differences), \
         report.rebuild_differences
@@ -364,7 +365,7 @@ def test_rebuild_reports_a_changed_number_by_its_key(project, tmp_path):
 def test_json_differences_names_keys_and_list_entries():
     old = {"a": 1.0, "states": [{"name": "min_a", "charge": -1}], "x": "same"}
     new = {"a": 1.0 + 1e-13, "states": [{"name": "min_a", "charge": 0}], "x": "same", "y": 2}
-    assert A.json_differences(old, new) == ["states[min_a].charge: -1 -> 0", "y: only in the rebuilt dossier.json"]
+    assert json_differences(old, new) == ["states[min_a].charge: -1 -> 0", "y: only in the rebuilt dossier.json"]
 
 
 # -- writing -----------------------------------------------------------------------------
@@ -374,14 +375,14 @@ def test_stale_build_is_not_archived(project, tmp_path):
     shutil.copytree(project["manifest"].parent, study)
     manifest = study / "dossier.toml"
     # the copy has the same files at the same relative places: the build is current for it
-    assert A.build_is_current(project["build"], manifest, sorted(A._manifest_files(manifest))) is None
+    assert build_is_current(project["build"], manifest, sorted(_manifest_files(manifest))) is None
     with open(study / "runs" / "dvb_ir.out", "ab") as handle:
         handle.write(b"\n")
-    reason = A.build_is_current(project["build"], manifest, sorted(A._manifest_files(manifest)))
+    reason = build_is_current(project["build"], manifest, sorted(_manifest_files(manifest)))
     assert reason is not None and "dvb_ir.out" in reason
-    result = A.write_archive(manifest, tmp_path / "fresh.tar.gz", build_dir=project["build"], formats=("json",))
+    result = write_archive(manifest, tmp_path / "fresh.tar.gz", build_dir=project["build"], formats=("json",))
     assert result.built_fresh and "dvb_ir.out" in result.notes[0]
-    assert A.verify_archive(result.path).ok
+    assert verify_archive(result.path).ok
 
 
 def test_failed_write_leaves_the_previous_archive_and_no_temporary_file(project, tmp_path):
@@ -395,7 +396,7 @@ def test_failed_write_leaves_the_previous_archive_and_no_temporary_file(project,
         raise KeyboardInterrupt  # as if the user pressed Ctrl-C during the build
 
     with pytest.raises(KeyboardInterrupt):
-        A.write_archive(project["manifest"], target, builder=broken_builder)
+        write_archive(project["manifest"], target, builder=broken_builder)
     assert target.read_bytes() == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["keep.tar.gz"]
 
@@ -446,7 +447,7 @@ def test_fuzz_damaged_archive_is_an_archive_error_or_a_failed_report(project, tm
     bad = tmp_path / "damaged.tar.gz"
     bad.write_bytes(bytes(raw))
     try:
-        report = A.verify_archive(bad)
+        report = verify_archive(bad)
     except ArchiveError as exc:
         assert "\n" not in str(exc) and str(bad) in str(exc)
         return
@@ -462,7 +463,7 @@ def test_verify_of_something_that_is_no_archive_is_one_line(case, tmp_path):
     target = {"missing": tmp_path / "gone.tar.gz", "folder": tmp_path, "plain-tar": tmp_path / "plain.tar.gz"}[case]
     if case == "plain-tar":  # a tar without the gzip layer
         with tarfile.open(target, "w") as tar:
-            info = tarfile.TarInfo(f"{A.ARCHIVE_ROOT}/README.txt")
+            info = tarfile.TarInfo(f"{ARCHIVE_ROOT}/README.txt")
             tar.addfile(info, io.BytesIO(b""))
     done = _cli("verify", str(target))
     assert done.returncode == 2 and "Traceback" not in done.stderr
@@ -488,13 +489,13 @@ def test_files_outside_the_manifest_folder_and_absolute_paths_archive_and_rebuil
     (tmp_path / "m").mkdir()
     manifest = tmp_path / "m" / "dossier.toml"
     manifest.write_text(f'[states.dvb]\ngeometry = "../runs/dvb_gopt_ks.out"\nfrequencies = "{runs / "dvb_ir.out"}"\n')
-    result = A.write_archive(manifest, tmp_path / "out.tar.gz", formats=("json",))
+    result = write_archive(manifest, tmp_path / "out.tar.gz", formats=("json",))
     names = set(result.members)
-    root = A.ARCHIVE_ROOT
+    root = ARCHIVE_ROOT
     assert {f"{root}/project/m/dossier.toml", f"{root}/project/runs/dvb_gopt_ks.out",
             f"{root}/project/runs/dvb_ir.out", f"{root}/project/runs/dvb_ir.in"} <= names
     assert any("absolute path" in n for n in result.notes)  # said plainly: a rebuild reads the original
-    report = A.verify_archive(result.path, rebuild=True)
+    report = verify_archive(result.path, rebuild=True)
     assert report.ok, report.lines()
 
 
@@ -513,13 +514,13 @@ def test_demo_study_archives_with_its_inputs_and_rebuilds(tmp_path, monkeypatch)
         pytest.skip(f"the demo study is not complete yet: {exc}")
     monkeypatch.setenv("DOSSIER_CACHE_DIR", str(tmp_path / "cache"))
     before = {p: hashlib.sha256(p.read_bytes()).hexdigest() for p in files}
-    result = A.write_archive(manifest, tmp_path / "demo.tar.gz", formats=("json",))
+    result = write_archive(manifest, tmp_path / "demo.tar.gz", formats=("json",))
     names = set(result.members)
     # every NWChem input beside its output is archived (the demo's runs keep NAME.nw beside NAME.out)
     for p in files:
         if p.with_suffix(".nw").is_file():
             rel = p.with_suffix(".nw").relative_to(manifest.parent)
-            assert f"{A.ARCHIVE_ROOT}/project/{rel.as_posix()}" in names
-    report = A.verify_archive(result.path, rebuild=True)
+            assert f"{ARCHIVE_ROOT}/project/{rel.as_posix()}" in names
+    report = verify_archive(result.path, rebuild=True)
     assert report.rebuilt and report.ok, report.lines()
     assert {p: hashlib.sha256(p.read_bytes()).hexdigest() for p in files} == before  # inputs unchanged

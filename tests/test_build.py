@@ -13,7 +13,7 @@ import pytest
 
 from conftest import DEMO, ROOT
 from dossier.report import build
-from dossier.report import render
+from dossier.report import containment, render
 from dossier.errors import BuildError, DossierError
 
 
@@ -83,7 +83,7 @@ def test_demo_pdf_text_holds_the_json_numbers(demo_build):
 def test_demo_html_is_self_contained(demo_build):
     _, result = demo_build
     html = result.files["dossier.html"].read_text(encoding="utf-8")
-    assert render.outside_references(html) == []
+    assert containment.outside_references(html) == []
     assert "<svg" in html and "<script" not in html.lower()
 
 

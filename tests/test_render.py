@@ -9,7 +9,7 @@ import pytest
 
 from conftest import require_program
 from dossier.report import figures
-from dossier.report import render
+from dossier.report import containment, render
 from dossier.errors import BuildError
 
 
@@ -76,7 +76,7 @@ def test_pdf_escapes_the_hostile_title(data, pdf_text):
 
 
 def test_html_is_self_contained(html):
-    assert render.outside_references(html) == []
+    assert containment.outside_references(html) == []
     assert "<script" not in html.lower() and "<link" not in html.lower()
     assert not re.search(r"@import|@font-face|url\(\s*['\"]?(?!#|data:)", html)
     urls = set(re.findall(r"https?://[^\s\"'<>)]+", html))
@@ -90,7 +90,7 @@ def test_user_text_is_escaped_everywhere(html, data):
         "&lt;script&gt;alert('x')&lt;/script&gt;", "")
     assert "&lt;script&gt;alert(&#39;x&#39;)&lt;/script&gt;" in html
     assert HOSTILE_NOTE not in html and "&lt;img src=x onerror=alert(1)&gt; note" in html
-    assert render.outside_references(html) == []
+    assert containment.outside_references(html) == []
 
 
 def test_numbering_tables_figures_sections(html):
@@ -137,7 +137,7 @@ def test_user_template_image_inside_its_folder_is_embedded(data, figs, tmp_path)
     png = b"\x89PNG\r\n\x1a\n" + b"\x00" * 16
     (folder / "logo.png").write_bytes(png)
     out = render.render_html(data, figs, templates_dir=folder)
-    assert 'src="data:image/png;base64,' in out and render.outside_references(out) == []
+    assert 'src="data:image/png;base64,' in out and containment.outside_references(out) == []
     assert "&lt;script&gt;" in out  # the user's template is autoescaped too
 
 

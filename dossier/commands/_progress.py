@@ -3,7 +3,7 @@ lines when stderr is not a terminal (a log, a pipe, CI), nothing when the user a
 
 A `StageProgress` is what the library's ``progress`` arguments take: calling it with a text
 starts a stage ("reading output files"); ``step(done, total)`` reports a counted stage's
-progress. `dossier.report.build.build_dossier` and `dossier.archive.bundle` call it; a plain function of
+progress. `dossier.report.build.build_dossier` and `dossier.archive.write` call it; a plain function of
 one string works there too (then counts arrive as text lines).
 """
 from __future__ import annotations

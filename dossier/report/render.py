@@ -29,9 +29,7 @@ from dossier.science.localization import DELOCALIZED_INDEX
 from dossier import __version__, units
 from dossier.errors import BuildError
 from dossier.reading.files import refuse_special
-from dossier.report.containment import (  # noqa: F401 (CSP, CSP_META, css_references, outside_references re-exported)
-    CSP, CSP_META, css_references, embed_local_images, outside_references, with_csp,
-)
+from dossier.report.containment import embed_local_images, with_csp
 from dossier.report.exports import state_energy_hartree, works_cited
 from dossier.report.figures import FigureOut, report_temperature, unit_label
 from dossier.report import collaborator, trace

@@ -300,7 +300,7 @@ def excited_states(text: str) -> list[ExcitedState]:
             break
         m6 = re.match(r"\s*\d+-\d*\w*\s+->\s+(\d+)-(\d)(\w+)\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+\S+\s+(" + FLOAT + r")\s+\S+\s+(" + FLOAT + r")\s+(" + FLOAT + r")\s+(" + FLOAT + r")", line)
         if m6:
-            root, mult, sym = int(m6.group(1)), m6.group(2), m6.group(3)
+            mult, sym = m6.group(2), m6.group(3)
             e_ev, e_cm1 = float(m6.group(4)), float(m6.group(5))
             fosc = float(m6.group(6))
             dip = [float(m6.group(k)) for k in (7, 8, 9)]

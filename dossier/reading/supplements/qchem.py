@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import re
 
-from dossier.reading.textutil import FLOAT, all_floats, last_float
+from dossier.reading.textutil import FLOAT, last_float
 from dossier.records import PrintedThermo
 from dossier.units import HARTREE_KCAL_MOL, STANDARD_ATMOSPHERE_PA
 
